@@ -1,0 +1,1 @@
+"""The fitting core: plain numpy in, small dataclasses out. No files, no command line, no printing."""

@@ -1,0 +1,60 @@
+"""What the data layer hands to the rest of trackfit."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class DataStep:
+    """One cleaning step and how many rows it removed.
+
+    ``rows_before - rows_after`` rows were dropped by ``description``.
+    """
+
+    description: str
+    rows_before: int
+    rows_after: int
+
+    @property
+    def dropped(self) -> int:
+        return self.rows_before - self.rows_after
+
+
+@dataclass(frozen=True)
+class TrackingData:
+    """Aligned, cleaned returns over the fit window, ready for fitting.
+
+    Attributes
+    ----------
+    dates : ndarray of datetime64[D], shape (n_periods,)
+        Return dates, strictly increasing.
+    benchmark : ndarray of shape (n_periods,)
+        Benchmark returns (decimal; excess of the risk-free rate when one is given).
+    constituents : ndarray of shape (n_periods, n_assets)
+        Constituent returns, same units, in ``names`` order.
+    names : tuple of str
+        Constituent names in the job's order (zero-variance ones removed, see ``warnings``).
+    benchmark_name : str
+    risk_free : ndarray of shape (n_periods,) or None
+        Per-period risk-free return (decimal) that was subtracted, if any.
+    periods_per_year : int
+    periods_per_year_inferred : bool
+        True when inferred from the date spacing, False when set in the job.
+    steps : tuple of DataStep
+        Every step that could drop rows, in order, with counts (zero counts included).
+    warnings : tuple of str
+    """
+
+    dates: np.ndarray
+    benchmark: np.ndarray
+    constituents: np.ndarray
+    names: tuple[str, ...]
+    benchmark_name: str
+    risk_free: np.ndarray | None
+    periods_per_year: int
+    periods_per_year_inferred: bool
+    steps: tuple[DataStep, ...]
+    warnings: tuple[str, ...]

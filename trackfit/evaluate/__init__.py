@@ -1,0 +1,1 @@
+"""Evaluation: tracking metrics and holdout studies on plain arrays."""

@@ -1,0 +1,35 @@
+"""Everything one ``trackfit fit`` run produced, handed to the reporter as one value."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import date
+
+from trackfit.data.dataset import TrackingData
+from trackfit.evaluate.holdout import HoldoutStudy
+from trackfit.job import Job
+
+
+@dataclass(frozen=True)
+class FitOutcome:
+    """One rebalance: the job, its data, the study, and which model's weights are held.
+
+    Attributes
+    ----------
+    job : Job
+    data : TrackingData
+    as_of : date
+        Last return date in the window.
+    study : HoldoutStudy
+    held : str
+        Name of the model in ``study.models`` whose ``final_fit`` weights are the ones to hold.
+    warnings : tuple of str
+        Everything worth telling the user, from every layer, in order, without duplicates.
+    """
+
+    job: Job
+    data: TrackingData
+    as_of: date
+    study: HoldoutStudy
+    held: str
+    warnings: tuple[str, ...]
