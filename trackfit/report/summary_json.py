@@ -1,0 +1,204 @@
+"""summary.json: everything the run decided, for machines, in a fixed key order."""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import os
+from datetime import date
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+import trackfit
+from trackfit.core.results import CVResult, FittedWeights, Fold
+from trackfit.data.dataset import TrackingData
+from trackfit.evaluate.holdout import ModelOutcome
+from trackfit.evaluate.metrics import TrackingMetrics
+from trackfit.job import Job
+from trackfit.outcome import FitOutcome
+from trackfit.report.caution import CAUTION
+from trackfit.report.held import held_weights
+from trackfit.report.numbers import iso_date, json_number, row_dates
+
+
+def render_summary_json(outcome: FitOutcome) -> str:
+    """The text of summary.json.
+
+    Keys come in the order built here (not sorted); floats are rounded to 12 significant
+    digits, nan and infinities are written as null, dates as ``YYYY-MM-DD``. Data files
+    are named relative to the job file's folder; no absolute path is written.
+
+    Parameters
+    ----------
+    outcome : FitOutcome
+
+    Returns
+    -------
+    str
+        Two-space indented JSON ending in ``"\\n"``.
+    """
+    held_weights(outcome)  # same checks as weights.csv, so the two files never disagree
+    data = outcome.data
+    study = outcome.study
+    train_first, train_last = row_dates(data.dates, 0, study.n_train)
+    hold_first, hold_last = row_dates(data.dates, study.n_train, study.n_train + study.n_holdout)
+    tree = {
+        "trackfit_version": trackfit.__version__,
+        "caution": CAUTION,
+        "job": _job(outcome.job),
+        "as_of": outcome.as_of,
+        "data": _data(data),
+        "split": {
+            "n_train": study.n_train,
+            "n_holdout": study.n_holdout,
+            "train_first_date": train_first,
+            "train_last_date": train_last,
+            "holdout_first_date": hold_first,
+            "holdout_last_date": hold_last,
+        },
+        "held": outcome.held,
+        "models": [_model(m, data) for m in study.models],
+        "warnings": list(outcome.warnings),
+    }
+    return json.dumps(_plain(tree), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+
+
+def _job(job: Job) -> dict[str, Any]:
+    folder = job.path.parent
+    risk_free = None
+    if job.risk_free is not None:
+        risk_free = {
+            "file": _relative(job.risk_free.file, folder),
+            "column": job.risk_free.column,
+            "unit": job.risk_free.unit,
+            "quote": job.risk_free.quote,
+        }
+    return {
+        "name": job.name,
+        "file": job.path.name,
+        "benchmark": {
+            "file": _relative(job.benchmark.file, folder),
+            "column": job.benchmark.column,
+        },
+        "constituents": [
+            {"file": _relative(c.file, folder), "columns": c.columns} for c in job.constituents
+        ],
+        "risk_free": risk_free,
+        "data": dataclasses.asdict(job.data),
+        "window": dataclasses.asdict(job.window),
+        "models": [dataclasses.asdict(m) for m in job.models],
+        "hold": job.hold,
+        "grid": dataclasses.asdict(job.grid),
+        "cv": dataclasses.asdict(job.cv),
+        "top_weights": job.output.top_weights,
+    }
+
+
+def _data(data: TrackingData) -> dict[str, Any]:
+    first, last = row_dates(data.dates, 0, len(data.dates))
+    return {
+        "benchmark": data.benchmark_name,
+        "constituents": len(data.names),
+        "periods_per_year": data.periods_per_year,
+        "periods_per_year_inferred": data.periods_per_year_inferred,
+        "first_date": first,
+        "last_date": last,
+        "rows": len(data.dates),
+        "excess_of_risk_free": data.risk_free is not None,
+        "steps": [
+            {
+                "description": s.description,
+                "rows_before": s.rows_before,
+                "rows_after": s.rows_after,
+                "dropped": s.dropped,
+            }
+            for s in data.steps
+        ],
+    }
+
+
+def _model(model: ModelOutcome, data: TrackingData) -> dict[str, Any]:
+    cv: CVResult | None = model.cv
+    return {
+        "name": model.name,
+        "kind": model.kind,
+        "alpha": cv.alpha if cv else model.final_fit.alpha,
+        "l1_ratio": cv.l1_ratio if cv else model.final_fit.l1_ratio,
+        "best_alpha": cv.best_alpha if cv else None,
+        "best_l1_ratio": cv.best_l1_ratio if cv else None,
+        "rule": cv.rule if cv else None,
+        "notes": list(cv.notes) if cv else [],
+        "curves": [
+            {
+                "l1_ratio": c.l1_ratio,
+                "alphas": c.alphas,
+                "mean_error": c.mean_error,
+                "std_error": c.std_error,
+            }
+            for c in (cv.curves if cv else ())
+        ],
+        "folds": [_fold(f, data.dates) for f in (cv.folds if cv else ())],
+        "kkt_residual": {
+            "train_fit": model.train_fit.kkt_residual,
+            "final_fit": model.final_fit.kkt_residual,
+        },
+        "in_sample": _metrics(model.in_sample),
+        "holdout": _metrics(model.holdout) if model.holdout is not None else None,
+        "final_weights": _weights(model.final_fit, data.names),
+    }
+
+
+def _fold(fold: Fold, dates: np.ndarray) -> dict[str, Any]:
+    train_first, train_last = row_dates(dates, fold.train_start, fold.train_stop)
+    val_first, val_last = row_dates(dates, fold.val_start, fold.val_stop)
+    return {
+        "train_start": fold.train_start,
+        "train_stop": fold.train_stop,
+        "val_start": fold.val_start,
+        "val_stop": fold.val_stop,
+        "train_first_date": train_first,
+        "train_last_date": train_last,
+        "val_first_date": val_first,
+        "val_last_date": val_last,
+    }
+
+
+def _metrics(metrics: TrackingMetrics) -> dict[str, Any]:
+    return {f.name: getattr(metrics, f.name) for f in dataclasses.fields(TrackingMetrics)}
+
+
+def _weights(fit: FittedWeights, names: tuple[str, ...]) -> dict[str, Any]:
+    weights = np.asarray(fit.weights, dtype=float)
+    return {"weights": dict(zip(names, weights)), "cash": fit.cash}
+
+
+def _relative(path: Path, folder: Path) -> str:
+    """``path`` as written relative to the job's folder, with forward slashes."""
+    path = Path(path)
+    if not path.is_absolute():
+        return path.as_posix()
+    try:
+        return Path(os.path.relpath(path, folder)).as_posix()
+    except ValueError:  # another drive on Windows: no relative path exists
+        return path.name
+
+
+def _plain(value: Any) -> Any:
+    """Turn the tree into JSON-ready values: rounded floats, lists, ISO dates."""
+    if value is None or isinstance(value, (bool, np.bool_)):
+        return None if value is None else bool(value)
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        return json_number(value)
+    if isinstance(value, str):
+        return value
+    if isinstance(value, (date, np.datetime64)):
+        return iso_date(value)
+    if isinstance(value, dict):
+        return {str(k): _plain(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple, np.ndarray)):
+        return [_plain(v) for v in value]
+    raise TypeError(f"summary.json cannot hold a value of type {type(value).__name__}.")
