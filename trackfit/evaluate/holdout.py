@@ -1,14 +1,24 @@
 """Holdout study: choose and fit on the rows before the holdout, judge on the holdout, refit on all.
 
-STUB: dataclasses are the agreed interface.
+Nothing after the first holdout row is used to choose a penalty or fit the weights that are
+judged on the holdout. The weights to hold are then refitted on the whole window with the
+penalty chosen before the holdout.
 """
 
 from __future__ import annotations
 
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
+import numpy as np
+
+from trackfit.core.cv import cross_validate
+from trackfit.core.fit import KKT_LIMIT, equal_weights, fit_ols, fit_penalized
+from trackfit.core.folds import ForwardChaining
+from trackfit.core.models import ModelSpec
 from trackfit.core.results import CVResult, FittedWeights
-from trackfit.evaluate.metrics import TrackingMetrics
+from trackfit.core.solvers import PathSolver
+from trackfit.evaluate.metrics import TrackingMetrics, tracking_metrics
 
 
 @dataclass(frozen=True)
@@ -53,3 +63,113 @@ class HoldoutStudy:
     n_holdout: int
     models: tuple[ModelOutcome, ...]
     warnings: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class StudyDesign:
+    """How penalties are chosen: the folds, the selection rule and the grid."""
+
+    splitter: ForwardChaining
+    rule: str = "min_error"
+    count: int = 100
+    min_ratio: float = 1e-3
+
+
+def _dropped_names(fit: FittedWeights, names: Sequence[str]) -> list[str]:
+    if fit.scaling is None:
+        return []
+    return [names[i] for i in np.flatnonzero(~fit.scaling.usable)]
+
+
+def run_holdout(
+    X: np.ndarray,
+    y: np.ndarray,
+    names: Sequence[str],
+    specs: Sequence[ModelSpec],
+    design: StudyDesign,
+    *,
+    n_holdout: int,
+    periods_per_year: int,
+    solver: PathSolver | None = None,
+    progress: Callable[[str], None] | None = None,
+) -> HoldoutStudy:
+    """Run every model, OLS and the equal-weight baseline through the holdout study.
+
+    Parameters
+    ----------
+    X : ndarray of shape (n_periods, n_assets)
+        Constituent returns over the whole window.
+    y : ndarray of shape (n_periods,)
+        Benchmark returns.
+    names : sequence of str, length n_assets
+        Used only in warnings.
+    n_holdout : int
+        Rows at the end of the window kept out of choosing and fitting; 0 for none.
+    """
+    n = len(y)
+    n_train = n - n_holdout
+    Xt, yt, Xh, yh = X[:n_train], y[:n_train], X[n_train:], y[n_train:]
+    say = progress or (lambda _msg: None)
+    warnings: list[str] = []
+
+    def judge(name, kind, cv, train_fit, final_fit):
+        w = train_fit.weights
+        holdout = (
+            tracking_metrics(Xh @ w, yh, w, periods_per_year) if n_holdout else None
+        )
+        for fit, rows in ((train_fit, "the rows before the holdout"), (final_fit, "the whole window")):
+            dropped = _dropped_names(fit, names)
+            if dropped:
+                warnings.append(
+                    f"{name}: left out {', '.join(dropped)}: zero variance on {rows}"
+                )
+        if kind not in ("ols", "equal_weight") and not np.any(final_fit.weights):
+            warnings.append(
+                f"{name}: the chosen penalty holds no names (all cash); the benchmark may be "
+                "unrelated to the constituents over this window"
+            )
+        return ModelOutcome(
+            name=name,
+            kind=kind,
+            cv=cv,
+            train_fit=train_fit,
+            in_sample=tracking_metrics(Xt @ w, yt, w, periods_per_year),
+            holdout=holdout,
+            final_fit=final_fit,
+        )
+
+    outcomes = []
+    for spec in specs:
+        say(f"cross-validating {spec.name} over {design.splitter.n_folds} folds")
+        cv = cross_validate(
+            Xt,
+            yt,
+            spec,
+            design.splitter,
+            rule=design.rule,
+            count=design.count,
+            min_ratio=design.min_ratio,
+            solver=solver,
+        )
+        train_fit = fit_penalized(Xt, yt, cv.alpha, cv.l1_ratio, solver=solver)
+        final_fit = (
+            fit_penalized(X, y, cv.alpha, cv.l1_ratio, solver=solver) if n_holdout else train_fit
+        )
+        outcomes.append(judge(spec.name, spec.kind, cv, train_fit, final_fit))
+
+    say("fitting the OLS and equal-weight baselines")
+    ols_train = fit_ols(Xt, yt)
+    ols_final = fit_ols(X, y) if n_holdout else ols_train
+    for fit in (ols_train, ols_final):
+        if fit.kkt_residual > KKT_LIMIT:
+            warnings.append(
+                f"ols: the normal equations hold only to {fit.kkt_residual:.1e}; the "
+                "constituents are nearly collinear, so the OLS weights are unreliable"
+            )
+            break
+    outcomes.append(judge("ols", "ols", None, ols_train, ols_final))
+    equal = equal_weights(X.shape[1])
+    outcomes.append(judge("equal_weight", "equal_weight", None, equal, equal))
+    return HoldoutStudy(
+        n_train=n_train, n_holdout=n_holdout, models=tuple(outcomes), warnings=tuple(warnings)
+    )
