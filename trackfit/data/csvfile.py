@@ -1,0 +1,237 @@
+"""Read one wide CSV file: a date column plus one column per series.
+
+The file is read as text once; dates are parsed and checked at once, and a column is turned
+into numbers only when a job asks for it (so a notes column nobody uses cannot break a run).
+"""
+
+from __future__ import annotations
+
+import difflib
+import re
+from collections import Counter
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from trackfit.errors import DataError
+
+#: Cell texts read as a missing value. Anything else that is not a number is an error.
+MISSING_TOKENS = frozenset({"", "NA", "N/A", "#N/A", "NaN", "nan"})
+
+_ISO_DATE = re.compile(r"\d{4}-\d{2}-\d{2}")
+_MAX_LISTED = 5
+
+
+@dataclass(frozen=True, eq=False)
+class WideTable:
+    """The text of one wide CSV file, sorted by date.
+
+    Attributes
+    ----------
+    path : Path
+        Absolute path of the file.
+    label : str
+        How messages name the file.
+    dates : ndarray of datetime64[D], shape (n_rows,)
+        Strictly increasing dates.
+    columns : tuple of str
+        The non-date column names, in file order.
+    cells : DataFrame of shape (n_rows, n_columns)
+        Stripped cell texts, rows in ``dates`` order, columns as ``columns``.
+    lines : ndarray of int, shape (n_rows,)
+        Line number in the file of each row (the header is line 1).
+    """
+
+    path: Path
+    label: str
+    dates: np.ndarray
+    columns: tuple[str, ...]
+    cells: pd.DataFrame
+    lines: np.ndarray
+
+    def require(self, column: str, key: str) -> None:
+        """Raise DataError unless ``column`` is in the file; ``key`` is the job key naming it."""
+        if column in self.columns:
+            return
+        close = difflib.get_close_matches(column, self.columns, n=3, cutoff=0.6)
+        hint = (
+            f"close matches: {_quoted(close)}"
+            if close
+            else f"columns found: {_quoted(self.columns, limit=12)}"
+        )
+        raise DataError(
+            f"{self.label}: no column {column!r} (named by {key}); {hint}; "
+            "fix the name in the job file or the file's header"
+        )
+
+    def numbers(self, column: str) -> np.ndarray:
+        """Column ``column`` as float64 of shape (n_rows,), NaN where a cell is missing."""
+        text = self.cells[column]
+        values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=np.float64)
+        missing = text.isin(MISSING_TOKENS).to_numpy()
+        bad = np.flatnonzero(np.isnan(values) & ~missing)
+        if bad.size:
+            i = bad[0]
+            more = f" ({bad.size} such cells in the column)" if bad.size > 1 else ""
+            raise DataError(
+                f"{self.label}: column {column!r}, line {self.lines[i]} (date "
+                f"{self.dates[i]}): {text.iloc[i]!r} is not a number{more}; write plain numbers "
+                "with '.' as the decimal separator, or leave the cell empty for a missing value"
+            )
+        return np.where(missing, np.nan, values)
+
+
+def read_wide_csv(
+    path: Path, *, date_column: str, date_format: str | None, label: str
+) -> WideTable:
+    """Read a wide CSV file and check its header and dates.
+
+    Parameters
+    ----------
+    path : Path
+        File to read (UTF-8, comma-separated, header on the first line).
+    date_column : str
+        Name of the date column.
+    date_format : str or None
+        strptime-style format of the dates; None means ISO 8601 ``YYYY-MM-DD``.
+    label : str
+        How messages name the file.
+
+    Returns
+    -------
+    WideTable
+
+    Raises
+    ------
+    DataError
+        File missing or unreadable, empty, malformed, no date column, blank or repeated
+        column names, an unreadable date, or a date given twice.
+    """
+    raw = _read_text_table(path, label).fillna("").astype(str)
+    header = [name.strip() for name in raw.iloc[0]]
+    body = raw.iloc[1:].apply(lambda col: col.str.strip())
+    lines = np.arange(2, len(raw) + 1)
+    keep = (body != "").any(axis=1).to_numpy()  # blank lines are not rows
+    body, lines = body[keep], lines[keep]
+    _check_header(header, label)
+    if date_column not in header:
+        raise DataError(
+            f"{label}: no date column {date_column!r}; columns found: "
+            f"{_quoted(header, limit=12)}; set data.date_column to the name of the date column"
+        )
+    if body.empty:
+        raise DataError(f"{label}: the file has a header but no data rows; add one row per date")
+    body.columns = header
+    dates = _parse_dates(body[date_column], lines, date_format, label, date_column)
+    _check_unique(dates, label)
+    order = np.argsort(dates, kind="stable")
+    columns = tuple(name for name in header if name != date_column)
+    cells = body[list(columns)].iloc[order].reset_index(drop=True)
+    return WideTable(
+        path=path,
+        label=label,
+        dates=dates[order],
+        columns=columns,
+        cells=cells,
+        lines=lines[order],
+    )
+
+
+def _read_text_table(path: Path, label: str) -> pd.DataFrame:
+    if not path.is_file():
+        what = "is a folder, not a file" if path.is_dir() else "does not exist"
+        raise DataError(
+            f"{label}: the data file {what} ({path}); check the file path in the job file "
+            "(relative paths start from the job file's folder)"
+        )
+    try:
+        return pd.read_csv(
+            path,
+            header=None,
+            dtype=str,
+            na_filter=False,
+            skip_blank_lines=False,
+            encoding="utf-8-sig",
+        )
+    except pd.errors.EmptyDataError:
+        raise DataError(
+            f"{label}: the file is empty; expected a header line with a date column "
+            "and one column per series, then one line per date"
+        ) from None
+    except pd.errors.ParserError as err:
+        raise DataError(
+            f"{label}: not a well-formed CSV file ({str(err).strip()}); every line needs "
+            "as many comma-separated fields as the header"
+        ) from None
+    except UnicodeDecodeError as err:
+        raise DataError(f"{label}: not UTF-8 text ({err.reason}); save it as UTF-8 CSV") from None
+    except OSError as err:
+        raise DataError(f"{label}: cannot read the file ({err.strerror})") from None
+
+
+def _check_header(header: list[str], label: str) -> None:
+    blank = [i + 1 for i, name in enumerate(header) if not name]
+    if blank:
+        raise DataError(
+            f"{label}: column {blank[0]} of the header has no name; give every column a name"
+        )
+    twice = sorted(name for name, count in Counter(header).items() if count > 1)
+    if twice:
+        raise DataError(
+            f"{label}: column name {_quoted(twice)} appears more than once in the header; "
+            "column names must be unique"
+        )
+
+
+def _parse_dates(
+    text: pd.Series, lines: np.ndarray, date_format: str | None, label: str, column: str
+) -> np.ndarray:
+    if date_format is None:
+        parsed = pd.to_datetime(text, format="%Y-%m-%d", errors="coerce")
+        # strptime also takes 2020-1-5; ISO 8601 wants two digits, so check the shape too
+        bad = parsed.isna().to_numpy() | ~text.str.fullmatch(_ISO_DATE.pattern).to_numpy()
+        expected = "ISO 8601 dates YYYY-MM-DD"
+        fix = "write the date as YYYY-MM-DD, or set data.date_format to the format used"
+    else:
+        try:
+            parsed = pd.to_datetime(text, format=date_format, errors="coerce")
+        except ValueError as err:
+            raise DataError(
+                f"{label}: data.date_format {date_format!r} is not a usable date format ({err})"
+            ) from None
+        bad = parsed.isna().to_numpy()
+        expected = f"dates in data.date_format {date_format!r}"
+        fix = "fix the date, or change data.date_format"
+    if bad.any():
+        i = int(np.flatnonzero(bad)[0])
+        count = int(bad.sum())
+        more = f" ({count} unreadable dates in all)" if count > 1 else ""
+        raise DataError(
+            f"{label}: line {lines[i]}: cannot read date {text.iloc[i]!r} in column "
+            f"{column!r}{more}; expected {expected}; {fix}"
+        )
+    if parsed.dt.tz is not None:  # a %z format: keep the local calendar date
+        parsed = parsed.dt.tz_localize(None)
+    return parsed.to_numpy().astype("datetime64[D]")
+
+
+def _check_unique(dates: np.ndarray, label: str) -> None:
+    values, counts = np.unique(dates, return_counts=True)
+    repeated = values[counts > 1]
+    if repeated.size:
+        shown = ", ".join(str(d) for d in repeated[:_MAX_LISTED])
+        more = ", ..." if repeated.size > _MAX_LISTED else ""
+        raise DataError(
+            f"{label}: {repeated.size} date(s) appear more than once: {shown}{more}; "
+            "keep one row per date"
+        )
+
+
+def _quoted(names, limit: int | None = None) -> str:
+    names = list(names)
+    shown = ", ".join(repr(n) for n in names[:limit])
+    if limit is not None and len(names) > limit:
+        shown += f", ... ({len(names)} in all)"
+    return shown
