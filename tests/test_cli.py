@@ -1,0 +1,142 @@
+"""The command line end to end, through click's CliRunner, on the shipped demo and on broken jobs."""
+
+from __future__ import annotations
+
+import json
+import shutil
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from trackfit.cli import EXIT_INPUT, main
+
+DEMO = Path(__file__).resolve().parents[1] / "examples" / "lumen_bay"
+FILES = ("weights.csv", "report.md", "summary.json")
+
+
+def _run(*args):
+    return CliRunner().invoke(main, [str(a) for a in args])
+
+
+@pytest.fixture(scope="module")
+def demo_runs(tmp_path_factory):
+    """The demo job run twice into two folders."""
+    outs = [tmp_path_factory.mktemp(f"run{i}") for i in range(2)]
+    results = [_run("fit", DEMO / "job.yaml", "--out", out) for out in outs]
+    return outs, results
+
+
+def test_fit_on_the_demo_writes_the_three_files_and_lists_them_on_stdout(demo_runs):
+    outs, results = demo_runs
+    result = results[0]
+    assert result.exit_code == 0, result.stderr
+    assert result.stdout.splitlines() == [str(outs[0] / name) for name in FILES]
+    for name in FILES:
+        assert (outs[0] / name).stat().st_size > 0
+    assert "constituents" in result.stderr  # progress goes to stderr
+
+
+def test_fit_is_byte_identical_on_a_second_run(demo_runs):
+    outs, _ = demo_runs
+    for name in FILES:
+        assert (outs[0] / name).read_bytes() == (outs[1] / name).read_bytes(), name
+
+
+def test_demo_outputs_are_consistent(demo_runs):
+    outs, _ = demo_runs
+    lines = (outs[0] / "weights.csv").read_text().splitlines()
+    assert lines[0] == "name,weight"
+    assert lines[-1].startswith("(cash),")
+    weights = [float(line.split(",")[1]) for line in lines[1:-1]]
+    cash = float(lines[-1].split(",")[1])
+    assert sum(weights) + cash == pytest.approx(1.0, abs=1e-8)
+    summary = json.loads((outs[0] / "summary.json").read_text())
+    text = (outs[0] / "summary.json").read_text() + (outs[0] / "report.md").read_text()
+    assert str(outs[0]) not in text and str(DEMO) not in text
+    assert "not investment advice" in (outs[0] / "report.md").read_text()
+    assert summary  # parses
+
+
+def test_check_describes_the_plan_and_writes_nothing(tmp_path):
+    job = tmp_path / "demo"
+    shutil.copytree(DEMO, job, ignore=shutil.ignore_patterns("out"))
+    result = _run("check", job / "job.yaml")
+    assert result.exit_code == 0, result.stderr
+    assert "fold 5" in result.stdout and "holdout: 126 rows" in result.stdout
+    assert not (job / "out").exists()
+
+
+def _broken_job(tmp_path, text):
+    job = tmp_path / "job.yaml"
+    job.write_text(text)
+    return job
+
+
+MINIMAL = """\
+benchmark: {file: index.csv, column: idx}
+constituents: [{file: members.csv}]
+cross_validation: {folds: 3}
+"""
+
+
+def _write_returns(tmp_path, dates, duplicate=False):
+    rows = ["date,idx"] + [f"{d},{0.01 * ((i % 5) - 2):.4f}" for i, d in enumerate(dates)]
+    members = ["date,a,b"] + [
+        f"{d},{0.01 * ((i % 3) - 1):.4f},{0.01 * ((i % 7) - 3):.4f}" for i, d in enumerate(dates)
+    ]
+    if duplicate:
+        rows.append(rows[-1])
+    (tmp_path / "index.csv").write_text("\n".join(rows) + "\n")
+    (tmp_path / "members.csv").write_text("\n".join(members) + "\n")
+
+
+DATES = [f"2026-{m:02d}-{d:02d}" for m in range(1, 12) for d in (7, 14, 21, 28)]
+
+
+@pytest.mark.parametrize(
+    "case, setup, message",
+    [
+        ("missing data file", lambda p: None, "index.csv"),
+        ("unknown key", lambda p: _write_returns(p, DATES), "cross_validation.fold"),
+        ("duplicate date", lambda p: _write_returns(p, DATES, duplicate=True), "2026-11-28"),
+    ],
+)
+def test_input_errors_exit_2_with_one_line_naming_the_problem(tmp_path, case, setup, message):
+    text = MINIMAL.replace("folds: 3", "fold: 3") if case == "unknown key" else MINIMAL
+    job = _broken_job(tmp_path, text)
+    setup(tmp_path)
+    result = _run("fit", job, "--out", tmp_path / "out")
+    assert result.exit_code == EXIT_INPUT
+    assert message in result.stderr
+    assert "Traceback" not in result.stderr
+    assert len(result.stderr.strip().splitlines()) == 1
+    assert result.stdout == ""
+    assert not (tmp_path / "out").exists()
+
+
+def test_missing_job_file_exits_2(tmp_path):
+    result = _run("fit", tmp_path / "nope.yaml")
+    assert result.exit_code == EXIT_INPUT
+    assert "nope.yaml" in result.stderr
+
+
+def test_bad_as_of_is_a_usage_error(tmp_path):
+    result = _run("fit", DEMO / "job.yaml", "--as-of", "30/11/2026")
+    assert result.exit_code == 2
+    assert "YYYY-MM-DD" in result.stderr
+
+
+def test_small_job_runs_and_quiet_prints_only_paths(tmp_path):
+    _write_returns(tmp_path, DATES)
+    job = _broken_job(tmp_path, MINIMAL)
+    result = _run("fit", job, "--out", tmp_path / "out", "--quiet")
+    assert result.exit_code == 0, result.stderr
+    assert result.stderr == ""
+    assert len(result.stdout.splitlines()) == 3
+
+
+def test_help_lists_the_commands():
+    result = _run("--help")
+    assert result.exit_code == 0
+    assert "fit" in result.stdout and "check" in result.stdout and "Exit codes" in result.stdout

@@ -1,0 +1,182 @@
+"""What the commands do, without the command line: job + data -> study -> files.
+
+Each function here is one command's work. They raise :class:`~trackfit.errors.TrackfitError`
+for problems the user can fix and report progress through a callback; they never print.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from datetime import date
+from pathlib import Path
+
+import numpy as np
+
+from trackfit.core.folds import ForwardChaining
+from trackfit.core.results import Fold
+from trackfit.data import TrackingData
+from trackfit.data.load import load_tracking_data
+from trackfit.errors import DataError, SolverError
+from trackfit.evaluate.holdout import StudyDesign, run_holdout
+from trackfit.job import Job
+from trackfit.outcome import FitOutcome
+from trackfit.report import write_reports
+
+Progress = Callable[[str], None]
+
+#: Share of the window kept as holdout when the job does not say.
+DEFAULT_HOLDOUT_SHARE = 0.2
+
+
+@dataclass(frozen=True)
+class Plan:
+    """What a fit of this job on this data would do, before any fitting."""
+
+    data: TrackingData
+    n_train: int
+    n_holdout: int
+    design: StudyDesign
+    folds: tuple[Fold, ...]
+
+
+def _day(value: np.datetime64) -> date:
+    return value.astype("datetime64[D]").item()
+
+
+def plan_fit(job: Job, as_of: date | None = None) -> Plan:
+    """Load the data and lay out the split and the folds; fit nothing.
+
+    Raises
+    ------
+    TrackfitError
+        For any problem with the job or the data, before any fitting starts.
+    """
+    data = load_tracking_data(job, as_of)
+    n = len(data.dates)
+    if job.window.holdout is None:
+        n_holdout = int(n * DEFAULT_HOLDOUT_SHARE)
+    else:
+        n_holdout = job.window.holdout
+    n_train = n - n_holdout
+    if n_train < 2:
+        raise DataError(
+            f"{job.path.name}: 'window.holdout' is {n_holdout} rows but the window has only "
+            f"{n} rows ({_day(data.dates[0])} to {_day(data.dates[-1])}); lower the holdout or "
+            "lengthen the window"
+        )
+    splitter = ForwardChaining(
+        n_folds=job.cv.folds,
+        min_train=job.cv.min_train,
+        gap=job.cv.gap,
+        rolling=job.cv.scheme == "rolling",
+    )
+    try:
+        folds = splitter.split(n_train)
+    except SolverError as exc:
+        raise DataError(
+            f"{job.path.name}: {n_train} rows before the holdout "
+            f"({_day(data.dates[0])} to {_day(data.dates[n_train - 1])}): {exc}"
+        ) from None
+    design = StudyDesign(
+        splitter=splitter, rule=job.cv.rule, count=job.grid.count, min_ratio=job.grid.min_ratio
+    )
+    return Plan(data=data, n_train=n_train, n_holdout=n_holdout, design=design, folds=folds)
+
+
+def _unique(messages) -> tuple[str, ...]:
+    return tuple(dict.fromkeys(messages))
+
+
+def fit_job(
+    job: Job,
+    *,
+    as_of: date | None = None,
+    out_dir: Path | None = None,
+    progress: Progress | None = None,
+) -> tuple[FitOutcome, list[Path]]:
+    """Run one rebalance: plan, study every model, write the weights and reports.
+
+    Parameters
+    ----------
+    out_dir : Path, optional
+        Where to write; default the job's ``output.directory``.
+
+    Returns
+    -------
+    outcome : FitOutcome
+    paths : list of Path
+        Files written, in the order weights, report, summary.
+    """
+    say = progress or (lambda _msg: None)
+    plan = plan_fit(job, as_of)
+    data = plan.data
+    say(
+        f"{len(data.names)} constituents, {len(data.dates)} rows "
+        f"({_day(data.dates[0])} to {_day(data.dates[-1])}), "
+        f"{plan.n_holdout} held out"
+    )
+    study = run_holdout(
+        data.constituents,
+        data.benchmark,
+        data.names,
+        job.models,
+        plan.design,
+        n_holdout=plan.n_holdout,
+        periods_per_year=data.periods_per_year,
+        progress=say,
+    )
+    outcome = FitOutcome(
+        job=job,
+        data=data,
+        as_of=_day(data.dates[-1]),
+        study=study,
+        held=job.hold,
+        warnings=_unique([*data.warnings, *study.warnings]),
+    )
+    paths = write_reports(outcome, out_dir or job.output.directory)
+    return outcome, paths
+
+
+def describe_plan(job: Job, plan: Plan) -> list[str]:
+    """Lines that say what ``trackfit fit`` would do with this job and data."""
+    data = plan.data
+    d = data.dates
+    lines = [
+        f"job: {job.name} ({job.path.name})",
+        f"benchmark: {data.benchmark_name}"
+        + (" (excess of the risk-free rate)" if data.risk_free is not None else ""),
+        f"constituents: {len(data.names)}",
+        f"window: {_day(d[0])} to {_day(d[-1])}, {len(d)} rows, "
+        f"{data.periods_per_year} periods per year"
+        + (" (inferred from the dates)" if data.periods_per_year_inferred else ""),
+    ]
+    lines += [f"  {s.description}: {s.dropped} rows dropped" for s in data.steps]
+    lines.append(
+        f"choose and fit on {plan.n_train} rows ({_day(d[0])} to {_day(d[plan.n_train - 1])})"
+    )
+    if plan.n_holdout:
+        lines.append(
+            f"holdout: {plan.n_holdout} rows ({_day(d[plan.n_train])} to {_day(d[-1])})"
+        )
+    else:
+        lines.append("holdout: none")
+    lines.append(
+        f"cross-validation: {len(plan.folds)} {job.cv.scheme} folds, gap {job.cv.gap}, "
+        f"rule {job.cv.rule}"
+    )
+    for i, f in enumerate(plan.folds, 1):
+        lines.append(
+            f"  fold {i}: train {_day(d[f.train_start])} to {_day(d[f.train_stop - 1])} "
+            f"({f.train_stop - f.train_start} rows), validate {_day(d[f.val_start])} to "
+            f"{_day(d[f.val_stop - 1])} ({f.val_stop - f.val_start} rows)"
+        )
+    models = ", ".join(
+        m.name + (f" (l1_ratio {', '.join(f'{r:g}' for r in m.l1_ratios)})" if m.kind == "elastic_net" else "")
+        for m in job.models
+    )
+    lines.append(f"models: {models}; baselines: ols, equal_weight; hold: {job.hold}")
+    lines.append(f"penalty grid: {job.grid.count} penalties, min ratio {job.grid.min_ratio:g}")
+    lines.append(f"output: {job.output.directory}")
+    lines += [f"warning: {w}" for w in data.warnings]
+    return lines
