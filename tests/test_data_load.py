@@ -585,3 +585,16 @@ def test_demo_scenario_loads():
     # the late listing reaches back into 2019 only, so the whole history needs drop_dates
     with pytest.raises(DataError, match="missing values on dates the fit window uses"):
         load_tracking_data(replace(job, window=WindowSpec()), as_of=date(2026, 11, 30))
+
+
+def test_daily_data_from_friday_serve_a_monday_as_of_but_not_a_week_later(tmp_path):
+    days = [d.strftime("%Y-%m-%d") for d in pd.bdate_range("2026-10-01", "2026-11-27")]
+    prices = _walk(5, len(days), 3)
+    _put(tmp_path, "index.csv", "date,idx", *(f"{d},{p:.6f}" for d, p in zip(days, prices[:, 0])))
+    _put(tmp_path, "stocks.csv", "date,a,b",
+         *(f"{d},{a:.6f},{b:.6f}" for d, a, b in zip(days, prices[:, 1], prices[:, 2])))
+    job = make_job(tmp_path)
+    monday = load_tracking_data(job, as_of=date(2026, 11, 30))  # data end Friday 2026-11-27
+    assert monday.dates[-1] == _d("2026-11-27")
+    with pytest.raises(DataError, match="data end on 2026-11-27, well before --as-of 2026-12-05"):
+        load_tracking_data(job, as_of=date(2026, 12, 5))

@@ -12,8 +12,11 @@ from trackfit.data.dataset import DataStep
 from trackfit.errors import DataError
 from trackfit.job import WindowSpec
 
-#: Data that end more than this many usual date spacings before --as-of are stale.
+#: Data that end more than this many usual date spacings before --as-of are stale...
 STALE_SPACINGS = 2
+#: ...and more than this many calendar days: daily data from Friday serve a Monday --as-of,
+#: or a holiday week (common practice: a weekend plus a few closed days).
+STALE_MIN_DAYS = 7
 
 
 @dataclass(frozen=True)
@@ -106,7 +109,7 @@ def _stop_at(dates: np.ndarray, as_of: np.datetime64) -> int:
     if len(dates) >= 2:
         gap = int((as_of - last).astype(np.int64))
         spacing = median_spacing_days(dates)
-        if gap > STALE_SPACINGS * spacing:
+        if gap > max(STALE_SPACINGS * spacing, STALE_MIN_DAYS):
             if stop == len(dates):
                 raise DataError(
                     f"data end on {last}, well before --as-of {as_of}; update the data or pass "
