@@ -163,10 +163,9 @@ def cross_validate(
     if rule == "one_standard_error":
         limit = best.mean_error[ai] + best.std_error[ai]
         chosen = int(np.flatnonzero(best.mean_error <= limit)[0])
-    if spec.l1_ratios[ci] > 0 and ai == 0:
-        notes.append(
-            f"{spec.name}: the largest penalty, which holds no names, had the smallest CV error"
-        )
+    if spec.l1_ratios[ci] > 0 and chosen == 0:
+        why = "had the smallest CV error" if ai == 0 else "was chosen by the one-standard-error rule"
+        notes.append(f"{spec.name}: the largest penalty, which holds no names, {why}")
     return CVResult(
         curves=tuple(curves),
         rule=rule,

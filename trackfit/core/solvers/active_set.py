@@ -16,6 +16,8 @@ from scipy import linalg
 
 # Stop when no KKT condition is violated by more than this, relative to max|c|.
 _TOL = 1e-13
+# A restricted Gram matrix whose eigenvalues span more than this ratio is singular to rounding.
+_SINGULAR = 1e-12
 
 
 def _solve_spd(A: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -89,8 +91,10 @@ def solve_enet(
             theta = np.append(theta, 1.0 if positive else np.sign(r[j]))
         w_new, full = _feature_sign_step(G, c, l1, l2, w, A, theta, positive)
         # A full step minimizes the objective on the face where w already lies, so it never
-        # increases it (beyond rounding); a partial step is kept only if it decreases it.
-        if full or _objective(G, c, w_new, l1, l2) < _objective(G, c, w, l1, l2):
+        # increases it beyond rounding; a partial step is kept only if it decreases it.
+        f_old, f_new = _objective(G, c, w, l1, l2), _objective(G, c, w_new, l1, l2)
+        slack = 1e-12 * (abs(f_old) + scale * float(np.abs(w).sum()) + 1e-300) if full else 0.0
+        if f_new < f_old + slack or (full and f_new == f_old):
             w, active_optimal = w_new, full
         else:
             w = _coordinate_step(G, c, l1, l2, w, r, positive)
@@ -104,11 +108,17 @@ def _feature_sign_step(G, c, l1, l2, w, A, theta, positive):
     Returns the new point and whether it is the unconstrained minimizer on ``A`` with signs
     matching ``theta`` (so the active set is optimal there).
     """
+    if len(A) == 0:
+        return w.copy(), True
     GA = G[np.ix_(A, A)]
-    if l2:
-        GA = GA + l2 * np.eye(len(A))
-    u = _solve_spd(GA, c[A] - l1 * theta)
     wA = w[A]
+    if l2:
+        u = _solve_spd(GA + l2 * np.eye(len(A)), c[A] - l1 * theta)
+    else:
+        evals, evecs = np.linalg.eigh(GA)
+        if evals[0] <= _SINGULAR * max(evals[-1], 0.0):
+            return _null_step(w, A, wA, theta, evecs[:, 0]), False
+        u = _solve_spd(GA, c[A] - l1 * theta)
     if np.all(np.sign(u) == theta):
         out = np.zeros_like(w)
         out[A] = u
@@ -130,6 +140,29 @@ def _feature_sign_step(G, c, l1, l2, w, A, theta, positive):
         if f < best_f:
             best, best_f = out, f
     return best, False
+
+
+def _null_step(w, A, wA, theta, v):
+    """Move along a direction that leaves the fit unchanged until a weight reaches zero.
+
+    When the active columns are linearly dependent (more names than rows, or duplicates), the
+    restricted lasso has no unique Newton step. Along a null vector ``v`` of the restricted
+    Gram matrix the fit does not change and the objective falls at rate ``l1 * theta'v``
+    (``v`` is oriented so that this is negative), so stepping until the first active weight
+    reaches zero lowers the objective and drops that weight, keeping the active columns
+    independent, as the lasso solution on generic data needs (at most n names).
+    """
+    if theta @ v > 0:
+        v = -v
+    moving = [i for i in range(len(A)) if wA[i] != 0.0 and np.sign(v[i]) == -theta[i]]
+    out = w.copy()
+    if not moving:
+        return out
+    steps = [-wA[i] / v[i] for i in moving]
+    k = int(np.argmin(steps))
+    out[A] = wA + steps[k] * v
+    out[A[moving[k]]] = 0.0
+    return out
 
 
 def _coordinate_step(G, c, l1, l2, w, r, positive):

@@ -9,6 +9,7 @@ from trackfit.core.kkt import enet_kkt_residual
 from trackfit.core.solvers.active_set import solve_enet
 from trackfit.core.solvers.base import PathSolution
 from trackfit.core.solvers.ridge import ridge_path
+from trackfit.errors import SolverError
 
 
 class ExactPathSolver:
@@ -24,7 +25,7 @@ class ExactPathSolver:
             steps = np.ones(len(alphas), dtype=int)
         else:
             if l1_ratio == 0.0:
-                raise NotImplementedError("long-only ridge needs the constrained solver")
+                raise SolverError("long-only ridge needs the constrained solver")
             coefs = np.zeros((len(alphas), k))
             steps = np.zeros(len(alphas), dtype=int)
             w = np.zeros(k)
