@@ -100,6 +100,47 @@ class OutputSpec:
 
 
 @dataclass(frozen=True)
+class Bounds:
+    """A lower and an upper bound on a weight or a sum of weights; None = no bound on that side."""
+
+    min: float | None = None
+    max: float | None = None
+
+
+@dataclass(frozen=True)
+class GroupsSpec:
+    """Group limits: a file mapping each constituent to a group, and bounds on group totals."""
+
+    file: Path  # absolute
+    name_column: str = "name"
+    group_column: str = "group"
+    each: Bounds | None = None  # bounds for every group not listed in ``bounds``
+    bounds: tuple[tuple[str, Bounds], ...] = ()  # (group label, bounds), in file order of the job
+
+
+@dataclass(frozen=True)
+class LimitsSpec:
+    """Mandate limits as written in the job (names, not positions)."""
+
+    long_only: bool = False
+    budget: tuple[float, float] | None = None  # "fully_invested" -> (1.0, 1.0); {min, max}
+    weight: Bounds | None = None  # bounds for every name
+    names: tuple[tuple[str, Bounds], ...] = ()  # per-name overrides of ``weight``
+    groups: GroupsSpec | None = None
+    max_names: int | None = None
+    min_position: float | None = None
+
+
+@dataclass(frozen=True)
+class HoldingsSpec:
+    """Current holdings and the turnover limits measured against them."""
+
+    file: Path  # absolute
+    turnover_penalty: float = 0.0
+    max_turnover: float | None = None  # one-way: sum(|w - w_current|) / 2
+
+
+@dataclass(frozen=True)
 class Job:
     """One validated job file; every path absolute, every collection a tuple."""
 
@@ -115,6 +156,8 @@ class Job:
     grid: GridSpec
     cv: CVSpec
     output: OutputSpec
+    limits: LimitsSpec = LimitsSpec()
+    holdings: HoldingsSpec | None = None
 
 
 #: Always computed for comparison; may be held, never listed under ``models``.

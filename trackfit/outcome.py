@@ -5,8 +5,10 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import date
 
+from trackfit.core.limits import NO_LIMITS, Limits
 from trackfit.data.dataset import TrackingData
 from trackfit.evaluate.holdout import HoldoutStudy
+from trackfit.evaluate.trades import TradeList
 from trackfit.job import Job
 
 
@@ -25,6 +27,13 @@ class FitOutcome:
         Name of the model in ``study.models`` whose ``final_fit`` weights are the ones to hold.
     warnings : tuple of str
         Everything worth telling the user, from every layer, in order, without duplicates.
+    limits : Limits
+        The mandate limits in force (positions index ``data.names``).
+    trades : TradeList or None
+        From the current holdings to the held weights, when current holdings were given.
+    notes : tuple of str
+        Statements about method the report must carry (for example how a unique solution is
+        picked when there are more constituents than rows).
     """
 
     job: Job
@@ -33,3 +42,6 @@ class FitOutcome:
     study: HoldoutStudy
     held: str
     warnings: tuple[str, ...]
+    limits: Limits = NO_LIMITS
+    trades: TradeList | None = None
+    notes: tuple[str, ...] = ()

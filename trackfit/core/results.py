@@ -6,6 +6,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from trackfit.core.limits import LimitStatus
+
 
 @dataclass(frozen=True)
 class Scaling:
@@ -45,6 +47,10 @@ class FittedWeights:
         Largest violation of the optimality conditions, relative to max|X'y|/n on the
         standardized data (0 for fixed baselines).
     scaling : Scaling or None
+    limits : tuple of LimitStatus
+        Every limit in force at this solution, with its slack (empty when none).
+    search : SupportSearch or None
+        How the names were chosen, when a maximum number of names is in force.
     """
 
     weights: np.ndarray
@@ -54,6 +60,40 @@ class FittedWeights:
     l1_ratio: float | None
     kkt_residual: float
     scaling: Scaling | None
+    limits: tuple[LimitStatus, ...] = ()
+    search: SupportSearch | None = None
+
+
+@dataclass(frozen=True)
+class SupportSearch:
+    """How the names held were chosen under a maximum number of names.
+
+    Attributes
+    ----------
+    chosen : tuple of int
+        Positions of the names held, increasing.
+    start : str
+        Which starting support won: ``"lasso path"`` or ``"forward selection"``.
+    objective : float
+        Standardized objective of the refit on ``chosen`` (under every other limit).
+    uncapped_objective : float
+        The same objective without the maximum-names limit (the cost of the cap is the
+        difference).
+    evaluations : int
+        Refits tried during the search.
+    swaps : int
+        Swaps accepted (one name out, one in).
+    removed_small : tuple of int
+        Positions removed because their weight fell below the minimum position size.
+    """
+
+    chosen: tuple[int, ...]
+    start: str
+    objective: float
+    uncapped_objective: float
+    evaluations: int
+    swaps: int
+    removed_small: tuple[int, ...] = ()
 
 
 @dataclass(frozen=True)

@@ -41,6 +41,9 @@ class ModelOutcome:
         ``train_fit`` applied unchanged to the holdout rows (None when there is no holdout).
     final_fit : FittedWeights
         Refitted on the whole window with the chosen penalty: the weights to hold.
+    uncapped_in_sample, uncapped_holdout : TrackingMetrics or None
+        Under a maximum number of names: the same model fitted at the same penalty without
+        that cap (every other limit kept), so the report can show the cost of the cap.
     """
 
     name: str
@@ -50,6 +53,8 @@ class ModelOutcome:
     in_sample: TrackingMetrics
     holdout: TrackingMetrics | None
     final_fit: FittedWeights
+    uncapped_in_sample: TrackingMetrics | None = None
+    uncapped_holdout: TrackingMetrics | None = None
 
 
 @dataclass(frozen=True)
