@@ -506,3 +506,15 @@ def test_yaml_alias_is_not_a_duplicate_key(tmp_path):
     text = "benchmark: &series {file: index.csv, column: lbx60}\n" + C + "risk_free: *series\n"
     job = load_job(_write(tmp_path, text))
     assert job.risk_free == RiskFreeSpec(job.benchmark.file, "lbx60")
+
+
+def test_public_names_stay_importable_from_trackfit_job():
+    # Other layers import the job's dataclasses from trackfit.job; they live in trackfit.jobfile.
+    import trackfit.jobfile.specs as specs
+
+    for name in ("SeriesRef", "ConstituentSource", "RiskFreeSpec", "DataSpec", "WindowSpec",
+                 "GridSpec", "CVSpec", "OutputSpec", "Bounds", "GroupsSpec", "LimitsSpec",
+                 "HoldingsSpec", "Job"):
+        assert getattr(job_module, name) is getattr(specs, name)
+    assert callable(job_module.load_job)
+    assert job_module.BASELINES == ("ols", "equal_weight")

@@ -1,0 +1,155 @@
+"""Read the current holdings: the weights held now, one name per row.
+
+The file is either the ``weights.csv`` that ``trackfit fit`` writes (header ``name,weight``, one
+row per constituent, a last row ``(cash),<cash>``) or any two-column CSV with a header row:
+names in the first column, decimal weights (0.05 = 5 %) in the second, header names free.
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+import re
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from trackfit.errors import DataError
+
+#: Name of the cash row in the weights.csv trackfit writes (see trackfit.report.held).
+CASH_ROW = "(cash)"
+#: Absolute weights adding up to more than this are taken for percentages.
+PERCENT_SUSPECT = 5.0
+
+_NUMBER = re.compile(r"[-+]?(\d+(\.\d*)?|\.\d+)([eE][-+]?\d+)?")
+_NON_FINITE = re.compile(r"[-+]?(nan|inf|infinity)", re.IGNORECASE)
+
+
+@dataclass(frozen=True, eq=False)
+class CurrentHoldings:
+    """The weights held now, as the holdings file gives them.
+
+    Attributes
+    ----------
+    names : tuple of str
+        Names in file order, without the cash row.
+    weights : ndarray of shape (n_names,)
+        Decimal weights (0.05 = 5 %), aligned with ``names``.
+    cash : float or None
+        The ``(cash)`` row's weight, None when the file has no such row.
+    """
+
+    names: tuple[str, ...]
+    weights: np.ndarray
+    cash: float | None
+
+
+def read_holdings(path: Path, *, label: str | None = None) -> CurrentHoldings:
+    """Read a holdings file.
+
+    Parameters
+    ----------
+    path : Path
+        The CSV file (UTF-8, comma-separated, a header row, then one row per name).
+    label : str or None
+        How messages name the file; None = ``str(path)``.
+
+    Returns
+    -------
+    CurrentHoldings
+
+    Raises
+    ------
+    DataError
+        The file is missing, unreadable or empty; a row has other than two fields; a name is
+        blank or given twice; a weight is missing, not a number or not finite; or the weights
+        are so large that they must be percentages.
+    """
+    label = str(path) if label is None else label
+    rows = _read_rows(path, label)
+    if not rows:
+        raise DataError(f"{label}: the holdings file is empty; expected a header line "
+                        "(such as name,weight), then one line per name held")
+    (header_line, header), body = rows[0], rows[1:]
+    _check_width(header_line, header, label)
+    if _NUMBER.fullmatch(header[1]):
+        raise DataError(f"{label}: line {header_line}: the first line ({','.join(header)}) looks "
+                        "like data, not a header; add a header line such as name,weight")
+    if not body:
+        raise DataError(f"{label}: the holdings file has a header but no rows; add one line per "
+                        f"name held (a portfolio all in cash is one row: {CASH_ROW},1)")
+    names: list[str] = []
+    weights: list[float] = []
+    first: dict[str, int] = {}
+    cash = None
+    for line, fields in body:
+        _check_width(line, fields, label)
+        name, text = fields
+        if not name:
+            raise DataError(f"{label}: line {line}: the name is blank; give every row a name")
+        if name in first:
+            raise DataError(f"{label}: {name!r} appears twice (lines {first[name]} and {line}); "
+                            "give each name one row")
+        first[name] = line
+        weight = _weight(text, name, line, label)
+        if name == CASH_ROW:
+            cash = weight
+        else:
+            names.append(name)
+            weights.append(weight)
+    values = np.array(weights, dtype=np.float64)
+    gross = float(np.abs(values).sum())
+    if gross > PERCENT_SUSPECT:
+        raise DataError(f"{label}: the weights add up to {gross:g} in absolute value; weights "
+                        "must be decimals (0.05 = 5 %), and these look like percentages; divide "
+                        "them by 100")
+    return CurrentHoldings(names=tuple(names), weights=values, cash=cash)
+
+
+def _read_rows(path: Path, label: str) -> list[tuple[int, list[str]]]:
+    """Non-blank rows with their line numbers, every field stripped."""
+    if not path.is_file():
+        what = "is a folder, not a file" if path.is_dir() else "does not exist"
+        raise DataError(f"{label}: the holdings file {what} ({path}); check 'holdings.file' in the "
+                        "job file (relative paths start from the job file's folder)")
+    try:
+        with path.open(encoding="utf-8-sig", newline="") as handle:
+            reader = csv.reader(handle, strict=True)
+            rows = []
+            line = 1
+            for fields in reader:
+                stripped = [f.strip() for f in fields]
+                if any(stripped):
+                    rows.append((line, stripped))
+                line = reader.line_num + 1
+            return rows
+    except UnicodeDecodeError as err:
+        raise DataError(f"{label}: not UTF-8 text ({err.reason}); save it as UTF-8 CSV") from None
+    except csv.Error as err:
+        raise DataError(f"{label}: line {reader.line_num}: not well-formed CSV ({err}); check the "
+                        "quotes on that line") from None
+    except OSError as err:
+        raise DataError(f"{label}: cannot read the holdings file ({err.strerror})") from None
+
+
+def _check_width(line: int, fields: list[str], label: str) -> None:
+    if len(fields) != 2:
+        raise DataError(f"{label}: line {line} has {len(fields)} field(s); a holdings file has "
+                        "exactly two columns: the name, then its weight")
+
+
+def _weight(text: str, name: str, line: int, label: str) -> float:
+    where = f"{label}: line {line}: the weight of {name!r}"
+    if not text:
+        raise DataError(f"{where} is missing; write 0 for a name not held, or remove the row")
+    if _NON_FINITE.fullmatch(text):
+        raise DataError(f"{where} is {text!r}, not a finite number; write the weight held")
+    if not _NUMBER.fullmatch(text):
+        hint = (" (weights are decimals: write 0.05 for 5 %)" if text.endswith("%")
+                else "; write a plain number with '.' as the decimal separator")
+        raise DataError(f"{where} is {text!r}, not a number{hint}")
+    value = float(text)
+    if not math.isfinite(value):  # such as 1e999
+        raise DataError(f"{where} is {text!r}, not a finite number; write the weight held")
+    return value

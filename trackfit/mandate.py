@@ -1,0 +1,208 @@
+"""From the limits a job names to the limits the core enforces: names become positions.
+
+:func:`build_limits` reads the groups and holdings files the job names, checks that every name
+and group label the job writes exists, and builds :class:`~trackfit.core.limits.Limits` over
+the constituents of one fit. Problems in the job are JobErrors naming the job file; problems in
+a data file are DataErrors naming that file. Everything else worth telling is a warning.
+"""
+
+from __future__ import annotations
+
+import difflib
+from collections.abc import Sequence
+from pathlib import Path
+
+import numpy as np
+
+from trackfit.core.limits import GroupLimit, Limits
+from trackfit.data.groups import read_groups
+from trackfit.data.holdings import CurrentHoldings, read_holdings
+from trackfit.errors import DataError, JobError
+from trackfit.job import Job
+
+__all__ = ["CurrentHoldings", "build_limits"]
+
+_MAX_LISTED = 10
+
+
+def build_limits(
+    job: Job, names: Sequence[str]
+) -> tuple[Limits, CurrentHoldings | None, tuple[str, ...]]:
+    """The job's mandate limits over the constituents of one fit.
+
+    Parameters
+    ----------
+    job : Job
+    names : sequence of str, length n_assets
+        The fit's constituents (``TrackingData.names``: zero-variance names already left out);
+        positions in the result index this sequence.
+
+    Returns
+    -------
+    limits : Limits
+        ``lower``/``upper`` of shape (n_assets,) when ``limits.weight`` or ``limits.names`` is
+        set (``-inf``/``+inf`` where a name has no bound; lower at least 0 with long-only),
+        else None. ``current`` of shape (n_assets,) whenever holdings are given (0 for names
+        not held). Groups in sorted label order.
+    holdings : CurrentHoldings or None
+        The holdings file as read, when the job names one.
+    warnings : tuple of str
+
+    Raises
+    ------
+    JobError
+        ``limits.names`` names a name that is not a constituent; ``limits.groups.bounds``
+        names a label that no row of the groups file uses, or sets a positive minimum for a
+        group with no constituent in this fit.
+    DataError
+        A groups or holdings file cannot be read (see :func:`~trackfit.data.groups.read_groups`
+        and :func:`~trackfit.data.holdings.read_holdings`), or a constituent has no group.
+    """
+    spec = job.limits
+    index = {name: i for i, name in enumerate(names)}
+    warnings: list[str] = []
+    lower, upper = _name_bounds(job, index)
+    groups = _group_limits(job, names, index, warnings)
+    holdings, current, outside = _current(job, index, warnings)
+    limits = Limits(
+        long_only=spec.long_only,
+        budget=spec.budget,
+        lower=lower,
+        upper=upper,
+        groups=groups,
+        current=current,
+        outside_turnover=outside,
+        turnover_penalty=0.0 if job.holdings is None else job.holdings.turnover_penalty,
+        max_turnover=None if job.holdings is None else job.holdings.max_turnover,
+        max_names=spec.max_names,
+        min_position=spec.min_position,
+    )
+    return limits, holdings, tuple(warnings)
+
+
+def _name_bounds(
+    job: Job, index: dict[str, int]
+) -> tuple[np.ndarray | None, np.ndarray | None]:
+    spec = job.limits
+    if spec.weight is None and not spec.names:
+        return None, None
+    n = len(index)
+    lower, upper = np.full(n, -np.inf), np.full(n, np.inf)
+    if spec.weight is not None:
+        if spec.weight.min is not None:
+            lower[:] = spec.weight.min
+        if spec.weight.max is not None:
+            upper[:] = spec.weight.max
+    for name, bounds in spec.names:
+        if name not in index:
+            raise JobError(
+                f"{job.path}: 'limits.names' lists {name!r}, which is not a constituent of this "
+                f"fit{_close(name, index)}; fix the name or remove it (constituents whose return "
+                "never varies in the window are left out of the fit; see the warnings)"
+            )
+        i = index[name]
+        if bounds.min is not None:
+            lower[i] = bounds.min
+        if bounds.max is not None:
+            upper[i] = bounds.max
+    if spec.long_only:
+        lower = np.maximum(lower, 0.0)
+    return lower, upper
+
+
+def _group_limits(
+    job: Job, names: Sequence[str], index: dict[str, int], warnings: list[str]
+) -> tuple[GroupLimit, ...]:
+    spec = job.limits.groups
+    if spec is None:
+        return ()
+    label = _label(spec.file, job)
+    mapping = read_groups(spec, label=label)
+    missing = [name for name in names if name not in mapping]
+    if missing:
+        raise DataError(
+            f"{label}: no group for {len(missing)} constituent(s): {_listed(missing)}; add a "
+            f"row for each with its group in column {spec.group_column!r}"
+        )
+    ignored = sum(1 for name in mapping if name not in index)
+    if ignored:
+        warnings.append(
+            f"{label}: {ignored} name(s) in the groups file are not constituents of this fit; "
+            "their rows are ignored"
+        )
+    members: dict[str, list[int]] = {}
+    for name in names:
+        members.setdefault(mapping[name], []).append(index[name])
+    labels = sorted(set(mapping.values()))
+    bounds = dict(spec.bounds)
+    for group in bounds:
+        if group not in labels:
+            raise JobError(
+                f"{job.path}: 'limits.groups.bounds' names group {group!r}, which no row of "
+                f"{label} has in column {spec.group_column!r}{_close(group, labels)}; fix the "
+                "label in the job file or the groups file"
+            )
+    limits = []
+    for group in sorted(set(members) | set(bounds)):
+        b = bounds.get(group, spec.each)
+        if b is None:
+            continue
+        if group not in members:
+            if b.min is not None and b.min > 0:
+                raise JobError(
+                    f"{job.path}: 'limits.groups.bounds.{group}.min' is {b.min:g}, but no "
+                    f"constituent of this fit is in group {group!r} ({label}), so the minimum "
+                    "cannot be met; remove the minimum or add constituents of that group"
+                )
+            warnings.append(
+                f"group {group!r} has no constituent in this fit; its bounds in "
+                "'limits.groups.bounds' have nothing to limit"
+            )
+            continue
+        limits.append(GroupLimit(group, tuple(members[group]), b.min, b.max))
+    return tuple(limits)
+
+
+def _current(
+    job: Job, index: dict[str, int], warnings: list[str]
+) -> tuple[CurrentHoldings | None, np.ndarray | None, float]:
+    """The holdings read, current weights over the constituents, and the forced turnover."""
+    if job.holdings is None:
+        return None, None, 0.0
+    label = _label(job.holdings.file, job)
+    held = read_holdings(job.holdings.file, label=label)
+    current = np.zeros(len(index))
+    sold: list[tuple[str, float]] = []
+    for name, weight in zip(held.names, held.weights):
+        if name in index:
+            current[index[name]] = weight
+        elif weight != 0.0:  # a zero row for a former constituent has nothing to sell
+            sold.append((name, float(weight)))
+    outside = sum(abs(w) for _, w in sold) / 2.0
+    if sold:
+        shown = [f"{name!r} ({weight:.4f})" for name, weight in sold]
+        warnings.append(
+            f"{label}: {len(sold)} name(s) held now are not constituents of this fit and will "
+            f"be sold: {_listed(shown, quote=False)}; one-way turnover {outside:.4f} from them "
+            "alone"
+        )
+    return held, current, float(outside)
+
+
+def _close(word: str, choices) -> str:
+    close = difflib.get_close_matches(word, list(choices), n=3, cutoff=0.6)
+    return "; close matches: " + ", ".join(repr(c) for c in close) if close else ""
+
+
+def _listed(items: Sequence[str], quote: bool = True) -> str:
+    shown = [repr(x) if quote else x for x in items[:_MAX_LISTED]]
+    more = f", ... ({len(items)} in all)" if len(items) > _MAX_LISTED else ""
+    return ", ".join(shown) + more
+
+
+def _label(path: Path, job: Job) -> str:
+    """Path relative to the job file's folder when it lies under it, else the full path."""
+    try:
+        return path.relative_to(job.path.parent).as_posix()
+    except ValueError:
+        return str(path)
