@@ -7,7 +7,14 @@ from datetime import date, datetime
 import numpy as np
 import pytest
 
-from trackfit.report.numbers import fixed, iso_date, json_number, percent, row_dates
+from trackfit.report.numbers import (
+    fixed,
+    iso_date,
+    json_number,
+    percent,
+    percent_short,
+    row_dates,
+)
 
 
 @pytest.mark.parametrize(
@@ -43,6 +50,26 @@ def test_fixed(value, spec, expected):
 )
 def test_percent(value, expected):
     assert percent(value) == expected
+
+
+@pytest.mark.parametrize(
+    ("value", "expected"),
+    [
+        (0.05, "5.00%"),
+        (0.07, "7.00%"),  # 0.07 * 100 is 7.000000000000001 in binary
+        (0.00125, "0.125%"),
+        (0.123456, "12.3456%"),
+        (1.0 / 3.0, "33.3333%"),
+        (0.3, "30.00%"),
+        (-0.025, "-2.50%"),
+        (0.0, "0.00%"),
+        (-1e-9, "0.00%"),
+        (float("-inf"), "n/a"),
+        (None, "n/a"),
+    ],
+)
+def test_percent_short_keeps_two_to_four_decimals(value, expected):
+    assert percent_short(value) == expected
 
 
 @pytest.mark.parametrize(

@@ -317,7 +317,10 @@ def test_summary_json_layout(outcome):
         "data",
         "split",
         "held",
+        "limits",
         "models",
+        "trades",
+        "notes",
         "warnings",
     ]
     assert summary["trackfit_version"] == trackfit.__version__

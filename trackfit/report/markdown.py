@@ -10,6 +10,8 @@ from trackfit.evaluate.metrics import TrackingMetrics
 from trackfit.outcome import FitOutcome
 from trackfit.report.caution import CAUTION
 from trackfit.report.held import held_model, held_weights
+from trackfit.report.markdown_limits import HEADING as LIMITS_HEADING
+from trackfit.report.markdown_limits import mandate_section
 from trackfit.report.numbers import NOT_AVAILABLE, fixed, percent, row_dates
 from trackfit.report.tables import inline, table
 
@@ -17,6 +19,7 @@ from trackfit.report.tables import inline, table
 HEADINGS = (
     "## What was done",
     "## Held weights",
+    LIMITS_HEADING,
     "## Tracking",
     "## Penalty choice",
     "## Accuracy",
@@ -51,7 +54,10 @@ def render_markdown(outcome: FitOutcome) -> str:
     job = outcome.job
     lines = [f"# {inline(job.name)}: tracking weights as of {outcome.as_of.isoformat()}", ""]
     lines += [f"> {inline(CAUTION)}", ""]
-    for section in (_what_was_done, _held, _tracking, _penalty_choice, _accuracy, _warnings):
+    sections = (
+        _what_was_done, _held, mandate_section, _tracking, _penalty_choice, _accuracy, _warnings
+    )
+    for section in sections:
         lines += section(outcome)
         lines.append("")
     return "\n".join(lines).rstrip("\n") + "\n"
@@ -70,7 +76,15 @@ def _rows(n: int) -> str:
 
 
 def _what_was_done(outcome: FitOutcome) -> list[str]:
-    data, study, cv_spec = outcome.data, outcome.study, outcome.job.cv
+    lines = _data_and_split(outcome)
+    lines += ["", "### Cross-validation", ""] + _cross_validation(outcome)
+    if outcome.notes:
+        lines += ["", "### Method notes", ""] + [f"- {inline(n)}" for n in outcome.notes]
+    return lines
+
+
+def _data_and_split(outcome: FitOutcome) -> list[str]:
+    data, study = outcome.data, outcome.study
     first, last = row_dates(data.dates, 0, len(data.dates))
     inferred = data.periods_per_year_inferred
     source = "inferred from the date spacing" if inferred else "set in the job"
@@ -126,12 +140,15 @@ def _what_was_done(outcome: FitOutcome) -> list[str]:
         ],
         [False, True, False, False],
     )
+    return lines
 
-    lines += ["", "### Cross-validation", ""]
-    penalized = [m for m in study.models if m.cv is not None]
+
+def _cross_validation(outcome: FitOutcome) -> list[str]:
+    data, cv_spec = outcome.data, outcome.job.cv
+    penalized = [m for m in outcome.study.models if m.cv is not None]
     if not penalized:
-        lines.append("No penalized model was cross-validated.")
-        return lines
+        return ["No penalized model was cross-validated."]
+    lines = []
     lines.append(
         "Penalties were chosen by time-ordered cross-validation on the choosing-and-fitting "
         f"rows only: {cv_spec.scheme} training windows, each followed by its validation rows "
@@ -263,7 +280,7 @@ def _tracking(outcome: FitOutcome) -> list[str]:
     study, dates = outcome.study, outcome.data.dates
     right = [False] + [True] * (len(_METRIC_HEADERS) - 1)
     train = _date_range(*row_dates(dates, 0, study.n_train))
-    lines = [HEADINGS[2], ""]
+    lines = [HEADINGS[3], ""]
     lines.append(
         "Tracking error and mean active return are annualized with "
         f"{outcome.data.periods_per_year} periods a year; the maximum active drawdown is the "
@@ -294,7 +311,7 @@ def _tracking(outcome: FitOutcome) -> list[str]:
 
 
 def _penalty_choice(outcome: FitOutcome) -> list[str]:
-    lines = [HEADINGS[3], ""]
+    lines = [HEADINGS[4], ""]
     penalized = [m for m in outcome.study.models if m.cv is not None]
     if not penalized:
         return lines + ["No penalized model was fitted."]
@@ -388,7 +405,7 @@ def _nearest(values, target: float) -> int:
 
 
 def _accuracy(outcome: FitOutcome) -> list[str]:
-    lines = [HEADINGS[4], ""]
+    lines = [HEADINGS[5], ""]
     lines.append(
         "The KKT residual is the largest violation of the optimality conditions, relative to "
         "`max(abs(X'y)) / n` on the standardized data; 0 for fixed weights. Smaller is better."
@@ -410,7 +427,7 @@ def _accuracy(outcome: FitOutcome) -> list[str]:
 
 
 def _warnings(outcome: FitOutcome) -> list[str]:
-    lines = [HEADINGS[5], ""]
+    lines = [HEADINGS[6], ""]
     if not outcome.warnings:
         return lines + ["None."]
     return lines + [f"- {inline(w)}" for w in outcome.warnings]

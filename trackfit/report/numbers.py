@@ -35,6 +35,22 @@ def percent(value: float | None, decimals: int = 2) -> str:
     return fixed(float(value) * 100.0, f".{decimals}f") + "%"
 
 
+def percent_short(value: float | None, least: int = 2, most: int = 4) -> str:
+    """A percentage with between ``least`` and ``most`` decimals, as few as show the value.
+
+    For numbers the user wrote, so they read back as written: 0.05 -> ``"5.00%"``,
+    0.00125 -> ``"0.125%"``, 1/3 -> ``"33.3333%"``.
+    """
+    text = percent(value, most)
+    if text == NOT_AVAILABLE:
+        return text
+    digits = text[:-1]
+    keep = len(digits) - (most - least)
+    while len(digits) > keep and digits.endswith("0"):
+        digits = digits[:-1]
+    return digits + "%"
+
+
 def json_number(value: float) -> float | None:
     """Round to 12 significant digits for JSON; nan and infinities become None (null)."""
     x = float(value)

@@ -4,9 +4,7 @@ from __future__ import annotations
 
 import dataclasses
 import json
-import os
 from datetime import date
-from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -21,6 +19,13 @@ from trackfit.outcome import FitOutcome
 from trackfit.report.caution import CAUTION
 from trackfit.report.held import held_weights
 from trackfit.report.numbers import iso_date, json_number, row_dates
+from trackfit.report.paths import relative_path
+from trackfit.report.summary_limits import (
+    job_holdings,
+    job_limits,
+    limits_summary,
+    trades_summary,
+)
 
 
 def render_summary_json(outcome: FitOutcome) -> str:
@@ -59,7 +64,10 @@ def render_summary_json(outcome: FitOutcome) -> str:
             "holdout_last_date": hold_last,
         },
         "held": outcome.held,
+        "limits": limits_summary(outcome),
         "models": [_model(m, data) for m in study.models],
+        "trades": trades_summary(outcome.trades),
+        "notes": list(outcome.notes),
         "warnings": list(outcome.warnings),
     }
     return json.dumps(_plain(tree), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
@@ -70,7 +78,7 @@ def _job(job: Job) -> dict[str, Any]:
     risk_free = None
     if job.risk_free is not None:
         risk_free = {
-            "file": _relative(job.risk_free.file, folder),
+            "file": relative_path(job.risk_free.file, folder),
             "column": job.risk_free.column,
             "unit": job.risk_free.unit,
             "quote": job.risk_free.quote,
@@ -79,11 +87,11 @@ def _job(job: Job) -> dict[str, Any]:
         "name": job.name,
         "file": job.path.name,
         "benchmark": {
-            "file": _relative(job.benchmark.file, folder),
+            "file": relative_path(job.benchmark.file, folder),
             "column": job.benchmark.column,
         },
         "constituents": [
-            {"file": _relative(c.file, folder), "columns": c.columns} for c in job.constituents
+            {"file": relative_path(c.file, folder), "columns": c.columns} for c in job.constituents
         ],
         "risk_free": risk_free,
         "data": dataclasses.asdict(job.data),
@@ -93,6 +101,8 @@ def _job(job: Job) -> dict[str, Any]:
         "grid": dataclasses.asdict(job.grid),
         "cv": dataclasses.asdict(job.cv),
         "top_weights": job.output.top_weights,
+        "limits": job_limits(job.limits, folder),
+        "holdings": job_holdings(job.holdings, folder),
     }
 
 
@@ -145,7 +155,9 @@ def _model(model: ModelOutcome, data: TrackingData) -> dict[str, Any]:
             "final_fit": model.final_fit.kkt_residual,
         },
         "in_sample": _metrics(model.in_sample),
-        "holdout": _metrics(model.holdout) if model.holdout is not None else None,
+        "holdout": _optional_metrics(model.holdout),
+        "uncapped_in_sample": _optional_metrics(model.uncapped_in_sample),
+        "uncapped_holdout": _optional_metrics(model.uncapped_holdout),
         "final_weights": _weights(model.final_fit, data.names),
     }
 
@@ -169,20 +181,13 @@ def _metrics(metrics: TrackingMetrics) -> dict[str, Any]:
     return {f.name: getattr(metrics, f.name) for f in dataclasses.fields(TrackingMetrics)}
 
 
+def _optional_metrics(metrics: TrackingMetrics | None) -> dict[str, Any] | None:
+    return None if metrics is None else _metrics(metrics)
+
+
 def _weights(fit: FittedWeights, names: tuple[str, ...]) -> dict[str, Any]:
     weights = np.asarray(fit.weights, dtype=float)
     return {"weights": dict(zip(names, weights)), "cash": fit.cash}
-
-
-def _relative(path: Path, folder: Path) -> str:
-    """``path`` as written relative to the job's folder, with forward slashes."""
-    path = Path(path)
-    if not path.is_absolute():
-        return path.as_posix()
-    try:
-        return Path(os.path.relpath(path, folder)).as_posix()
-    except ValueError:  # another drive on Windows: no relative path exists
-        return path.name
 
 
 def _plain(value: Any) -> Any:
