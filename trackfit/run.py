@@ -13,13 +13,17 @@ from pathlib import Path
 
 import numpy as np
 
+from trackfit.core.constrained import RIDGE_FOR_UNIQUENESS, check_feasible
 from trackfit.core.folds import ForwardChaining
+from trackfit.core.limits import Limits
 from trackfit.core.results import Fold
 from trackfit.data import TrackingData
 from trackfit.data.load import load_tracking_data
-from trackfit.errors import DataError, SolverError
+from trackfit.errors import DataError, JobError, SolverError
 from trackfit.evaluate.holdout import StudyDesign, run_holdout
+from trackfit.evaluate.trades import trades
 from trackfit.job import Job
+from trackfit.mandate import CurrentHoldings, build_limits
 from trackfit.outcome import FitOutcome
 from trackfit.report import write_reports
 
@@ -38,6 +42,10 @@ class Plan:
     n_holdout: int
     design: StudyDesign
     folds: tuple[Fold, ...]
+    limits: Limits
+    holdings: CurrentHoldings | None
+    warnings: tuple[str, ...]
+    notes: tuple[str, ...]
 
 
 def _day(value: np.datetime64) -> date:
@@ -81,7 +89,52 @@ def plan_fit(job: Job, as_of: date | None = None) -> Plan:
     design = StudyDesign(
         splitter=splitter, rule=job.cv.rule, count=job.grid.count, min_ratio=job.grid.min_ratio
     )
-    return Plan(data=data, n_train=n_train, n_holdout=n_holdout, design=design, folds=folds)
+    limits, holdings, limit_warnings = build_limits(job, data.names)
+    try:
+        check_feasible(limits, data.names)
+    except SolverError as exc:  # conflicting limits are the job's to fix, not a fit failure
+        raise JobError(f"{job.path.name}: the mandate limits conflict: {exc}") from None
+    warnings, notes = _method_statements(job, limits, n_train, len(data.names))
+    return Plan(
+        data=data,
+        n_train=n_train,
+        n_holdout=n_holdout,
+        design=design,
+        folds=folds,
+        limits=limits,
+        holdings=holdings,
+        warnings=(*limit_warnings, *warnings),
+        notes=notes,
+    )
+
+
+def _method_statements(
+    job: Job, limits: Limits, n_train: int, n_assets: int
+) -> tuple[list[str], list[str]]:
+    """Warnings and method notes that follow from the job's design alone."""
+    warnings, notes = [], []
+    fully_invested = limits.budget is not None and limits.budget == (1.0, 1.0)
+    l1_models = [m.name for m in job.models if m.kind in ("lasso", "elastic_net")]
+    if limits.long_only and fully_invested and l1_models:
+        warnings.append(
+            f"{', '.join(l1_models)}: under long-only and fully invested the weights always sum "
+            "to 1 in absolute value, so an L1 penalty cannot make the portfolio sparse (it only "
+            "tilts weight away from the more volatile names); to hold fewer names set "
+            "limits.max_names"
+        )
+    if n_assets > n_train:
+        how = (
+            f"a ridge term of {RIDGE_FOR_UNIQUENESS:g} times the mean diagonal of the "
+            "standardized Gram matrix is added to constrained fits"
+            if limits.needs_qp or limits.max_names is not None
+            else "the exact lasso and elastic-net solvers return a solution with at most as many "
+            "names as rows; ridge and elastic net are unique; OLS is the minimum-norm solution"
+        )
+        notes.append(
+            f"There are more constituents ({n_assets}) than rows before the holdout ({n_train}), "
+            f"so many weight vectors fit equally well; to pick one stably from month to month, {how}."
+        )
+    return warnings, notes
 
 
 def _unique(messages) -> tuple[str, ...]:
@@ -125,14 +178,24 @@ def fit_job(
         n_holdout=plan.n_holdout,
         periods_per_year=data.periods_per_year,
         progress=say,
+        limits=plan.limits,
     )
+    held = next(m for m in study.models if m.name == job.hold)
+    trade_list = None
+    if plan.holdings is not None:
+        trade_list = trades(
+            data.names, held.final_fit.weights, plan.holdings.names, plan.holdings.weights
+        )
     outcome = FitOutcome(
         job=job,
         data=data,
         as_of=_day(data.dates[-1]),
         study=study,
         held=job.hold,
-        warnings=_unique([*data.warnings, *study.warnings]),
+        warnings=_unique([*data.warnings, *plan.warnings, *study.warnings]),
+        limits=plan.limits,
+        trades=trade_list,
+        notes=tuple(plan.notes),
     )
     paths = write_reports(outcome, out_dir or job.output.directory)
     return outcome, paths
@@ -178,5 +241,32 @@ def describe_plan(job: Job, plan: Plan) -> list[str]:
     lines.append(f"models: {models}; baselines: ols, equal_weight; hold: {job.hold}")
     lines.append(f"penalty grid: {job.grid.count} penalties, min ratio {job.grid.min_ratio:g}")
     lines.append(f"output: {job.output.directory}")
-    lines += [f"warning: {w}" for w in data.warnings]
+    lines += [f"limit: {line}" for line in _limit_lines(plan.limits)]
+    if plan.holdings is not None:
+        lines.append(f"current holdings: {len(plan.holdings.names)} names")
+    lines += [f"note: {n}" for n in plan.notes]
+    lines += [f"warning: {w}" for w in (*data.warnings, *plan.warnings)]
     return lines
+
+
+def _limit_lines(limits: Limits) -> list[str]:
+    out = []
+    if limits.long_only:
+        out.append("long-only")
+    if limits.budget is not None:
+        lo, hi = limits.budget
+        out.append("fully invested" if lo == hi == 1.0 else f"sum of weights in [{lo:g}, {hi:g}]")
+    if limits.lower is not None or limits.upper is not None:
+        out.append("per-name bounds")
+    for g in limits.groups:
+        out.append(f"group {g.name}: [{g.lower if g.lower is not None else '-'}, "
+                   f"{g.upper if g.upper is not None else '-'}]")
+    if limits.max_names is not None:
+        out.append(f"at most {limits.max_names} names")
+    if limits.min_position is not None:
+        out.append(f"no position below {limits.min_position:g}")
+    if limits.turnover_penalty:
+        out.append(f"turnover penalty {limits.turnover_penalty:g}")
+    if limits.max_turnover is not None:
+        out.append(f"one-way turnover at most {limits.max_turnover:g}")
+    return out

@@ -15,6 +15,8 @@ from trackfit.core.fit import check_accuracy
 from trackfit.core.folds import ForwardChaining
 from trackfit.core.gram import GramData, standardized_gram
 from trackfit.core.grid import extend_grid, penalty_grid
+from trackfit.core.limited_fit import CV_SEARCH, fit_limited_gram
+from trackfit.core.limits import NO_LIMITS, Limits
 from trackfit.core.models import ModelSpec
 from trackfit.core.results import CVCurve, CVResult, Fold, Scaling
 from trackfit.core.scaling import fit_scaling
@@ -22,6 +24,12 @@ from trackfit.core.solvers import PathSolver, default_solver
 from trackfit.errors import SolverError
 
 RULES = ("min_error", "one_standard_error")
+
+
+def _needs_limited(limits: Limits, l1_ratio: float) -> bool:
+    """True unless the only limit is long-only on lasso or elastic net (the positive path)."""
+    pure_long_only = limits.long_only and not limits.needs_qp and limits.max_names is None
+    return not (pure_long_only and limits.min_position is None and l1_ratio > 0)
 
 
 @dataclass(frozen=True)
@@ -32,6 +40,23 @@ class _FoldData:
     y_val: np.ndarray
 
 
+def _limited_fold_errors(
+    folds: list[_FoldData], alphas: np.ndarray, l1_ratio: float, limits: Limits
+) -> np.ndarray:
+    """As :func:`_fold_errors`, each penalty fitted under the mandate limits."""
+    errors = np.empty((len(alphas), len(folds)))
+    for f, fold in enumerate(folds):
+        start = None
+        for i, alpha in enumerate(alphas):
+            fit = fit_limited_gram(
+                fold.data, fold.scaling, alpha, l1_ratio, limits, search=CV_SEARCH, start=start
+            )
+            start = fit.weights != 0
+            active = fold.X_val @ fit.weights - fold.y_val
+            errors[i, f] = float(np.mean(active * active))
+    return errors
+
+
 def _fold_errors(
     folds: list[_FoldData],
     alphas: np.ndarray,
@@ -39,8 +64,13 @@ def _fold_errors(
     positive: bool,
     solver: PathSolver,
     label: str,
+    limits: Limits = NO_LIMITS,
 ) -> np.ndarray:
     """Validation mean squared active return, shape (n_alphas, n_folds)."""
+    if limits.any:
+        if _needs_limited(limits, l1_ratio):
+            return _limited_fold_errors(folds, alphas, l1_ratio, limits)
+        positive = True
     errors = np.empty((len(alphas), len(folds)))
     for f, fold in enumerate(folds):
         sol = solver.path(fold.data, alphas, l1_ratio, positive=positive)
@@ -76,6 +106,7 @@ def cross_validate(
     solver: PathSolver | None = None,
     max_extensions: int = 3,
     refit_scaling: bool = True,
+    limits: Limits = NO_LIMITS,
 ) -> CVResult:
     """Cross-validate one model over its penalty grid(s) and choose a penalty.
 
@@ -99,6 +130,9 @@ def cross_validate(
         Refit the scaling inside each fold (the default, and the honest choice). False scales
         every fold with the scaling of all rows given: only for comparison with references
         that take pre-scaled data.
+    limits : Limits
+        Mandate limits every fold's fit obeys, as the final fit will (a screened max-names
+        search inside folds, see :data:`trackfit.core.limited_fit.CV_SEARCH`).
 
     Returns
     -------
@@ -107,6 +141,7 @@ def cross_validate(
     if rule not in RULES:
         raise ValueError(f"rule must be one of {RULES}; got {rule!r}")
     solver = solver or default_solver()
+    positive = positive or limits.long_only
     folds = splitter.split(len(y))
     whole_scaling = fit_scaling(X, y)
     whole = standardized_gram(X, y, whole_scaling)
@@ -132,7 +167,7 @@ def cross_validate(
                 f"{label}: no constituent is positively related to the benchmark on the "
                 "training rows, so every penalty gives an empty portfolio"
             )
-        errors = _fold_errors(fold_data, alphas, l1_ratio, positive, solver, label)
+        errors = _fold_errors(fold_data, alphas, l1_ratio, positive, solver, label, limits)
         for _ in range(max_extensions + 1):
             at = int(np.argmin(errors.mean(axis=1)))
             lower = at == len(alphas) - 1
@@ -147,7 +182,7 @@ def cross_validate(
                 break
             old = len(alphas)
             alphas = extend_grid(alphas, lower=lower)
-            errors = _fold_errors(fold_data, alphas, l1_ratio, positive, solver, label)
+            errors = _fold_errors(fold_data, alphas, l1_ratio, positive, solver, label, limits)
             side = "below" if lower else "above"
             notes.append(
                 f"{label}: the smallest CV error was on the edge of the grid; extended the grid "

@@ -8,13 +8,15 @@ penalty chosen before the holdout.
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from trackfit.core.cv import cross_validate
-from trackfit.core.fit import KKT_LIMIT, equal_weights, fit_ols, fit_penalized
+from trackfit.core.fit import KKT_LIMIT, equal_weights, fit_ols
 from trackfit.core.folds import ForwardChaining
+from trackfit.core.limited_fit import fit_limited
+from trackfit.core.limits import NO_LIMITS, Limits
 from trackfit.core.models import ModelSpec
 from trackfit.core.results import CVResult, FittedWeights
 from trackfit.core.solvers import PathSolver
@@ -97,6 +99,7 @@ def run_holdout(
     periods_per_year: int,
     solver: PathSolver | None = None,
     progress: Callable[[str], None] | None = None,
+    limits: Limits = NO_LIMITS,
 ) -> HoldoutStudy:
     """Run every model, OLS and the equal-weight baseline through the holdout study.
 
@@ -110,6 +113,10 @@ def run_holdout(
         Used only in warnings.
     n_holdout : int
         Rows at the end of the window kept out of choosing and fitting; 0 for none.
+    limits : Limits
+        Mandate limits every penalized model and OLS obey, in cross-validation and in every
+        fit (equal weights stay the naive baseline). Under a maximum number of names each model
+        is also fitted without that cap, to show its cost.
     """
     n = len(y)
     n_train = n - n_holdout
@@ -117,11 +124,24 @@ def run_holdout(
     say = progress or (lambda _msg: None)
     warnings: list[str] = []
 
-    def judge(name, kind, cv, train_fit, final_fit):
+    def on_rows(fit, Xr, yr):
+        return tracking_metrics(Xr @ fit.weights, yr, fit.weights, periods_per_year)
+
+    uncapped_limits = replace(limits, max_names=None)
+
+    def uncapped(alpha, l1_ratio):
+        """In-sample and holdout metrics of the same model without the name cap."""
+        if limits.max_names is None:
+            return {}
+        fit = fit_limited(Xt, yt, alpha, l1_ratio, uncapped_limits)
+        return {
+            "uncapped_in_sample": on_rows(fit, Xt, yt),
+            "uncapped_holdout": on_rows(fit, Xh, yh) if n_holdout else None,
+        }
+
+    def judge(name, kind, cv, train_fit, final_fit, extra=None):
         w = train_fit.weights
-        holdout = (
-            tracking_metrics(Xh @ w, yh, w, periods_per_year) if n_holdout else None
-        )
+        holdout = on_rows(train_fit, Xh, yh) if n_holdout else None
         for fit, rows in ((train_fit, "the rows before the holdout"), (final_fit, "the whole window")):
             dropped = _dropped_names(fit, names)
             if dropped:
@@ -138,9 +158,10 @@ def run_holdout(
             kind=kind,
             cv=cv,
             train_fit=train_fit,
-            in_sample=tracking_metrics(Xt @ w, yt, w, periods_per_year),
+            in_sample=on_rows(train_fit, Xt, yt),
             holdout=holdout,
             final_fit=final_fit,
+            **(extra or {}),
         )
 
     outcomes = []
@@ -155,16 +176,20 @@ def run_holdout(
             count=design.count,
             min_ratio=design.min_ratio,
             solver=solver,
+            limits=limits,
         )
-        train_fit = fit_penalized(Xt, yt, cv.alpha, cv.l1_ratio, solver=solver)
-        final_fit = (
-            fit_penalized(X, y, cv.alpha, cv.l1_ratio, solver=solver) if n_holdout else train_fit
-        )
-        outcomes.append(judge(spec.name, spec.kind, cv, train_fit, final_fit))
+        train_fit = fit_limited(Xt, yt, cv.alpha, cv.l1_ratio, limits)
+        final_fit = fit_limited(X, y, cv.alpha, cv.l1_ratio, limits) if n_holdout else train_fit
+        extra = uncapped(cv.alpha, cv.l1_ratio)
+        outcomes.append(judge(spec.name, spec.kind, cv, train_fit, final_fit, extra))
 
     say("fitting the OLS and equal-weight baselines")
-    ols_train = fit_ols(Xt, yt)
-    ols_final = fit_ols(X, y) if n_holdout else ols_train
+    if limits.any:  # least squares under the limits: alpha = 0
+        ols_train = fit_limited(Xt, yt, 0.0, 0.0, limits)
+        ols_final = fit_limited(X, y, 0.0, 0.0, limits) if n_holdout else ols_train
+    else:
+        ols_train = fit_ols(Xt, yt)
+        ols_final = fit_ols(X, y) if n_holdout else ols_train
     for fit in (ols_train, ols_final):
         if fit.kkt_residual > KKT_LIMIT:
             warnings.append(
@@ -172,7 +197,7 @@ def run_holdout(
                 "constituents are nearly collinear, so the OLS weights are unreliable"
             )
             break
-    outcomes.append(judge("ols", "ols", None, ols_train, ols_final))
+    outcomes.append(judge("ols", "ols", None, ols_train, ols_final, uncapped(0.0, 0.0)))
     equal = equal_weights(X.shape[1])
     outcomes.append(judge("equal_weight", "equal_weight", None, equal, equal))
     return HoldoutStudy(
