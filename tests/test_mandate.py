@@ -67,9 +67,10 @@ def test_long_only_alone_sets_no_bound_arrays(tmp_path):
         # long-only lifts every lower bound below 0 to 0
         ("limits:\n  long_only: true\n  weight: {min: -0.05, max: 0.1}\n"
          "  names: {lumen_telecom: {min: 0.01}}\n",
-         [0.0, 0.0, 0.0, 0.0, 0.01], [0.1] * 5),
+         # long-only covers minimums at or below 0; only positive ones remain as bounds
+         [-np.inf] * 4 + [0.01], [0.1] * 5),
         ("limits: {long_only: true, names: {kestrel_minerals: {max: 0.3}}}\n",
-         [0.0] * 5, [0.3, math.inf, math.inf, math.inf, math.inf]),
+         [-np.inf] * 5, [0.3, math.inf, math.inf, math.inf, math.inf]),
     ],
 )
 def test_per_name_bounds(tmp_path, text, lower, upper):

@@ -106,7 +106,8 @@ def _name_bounds(
         if bounds.max is not None:
             upper[i] = bounds.max
     if spec.long_only:
-        lower = np.maximum(lower, 0.0)
+        # Long-only already keeps every weight at 0 or above; only positive minimums add to it.
+        lower = np.where(lower > 0.0, lower, -np.inf)
     return lower, upper
 
 

@@ -34,10 +34,11 @@ class SearchOptions:
 
     full_swaps: bool = True
     screen: int | None = None
+    forward: bool = True
 
 
 FULL_SEARCH = SearchOptions()
-CV_SEARCH = SearchOptions(full_swaps=False, screen=5)
+CV_SEARCH = SearchOptions(full_swaps=False, screen=5, forward=False)
 
 
 def _uses_qp(limits: Limits, l1_ratio: float) -> bool:
@@ -124,7 +125,7 @@ def fit_limited_gram(
         weights, objective = base.weights, float(base.objective)
         mask = weights != 0
         if limits.max_names is not None and np.count_nonzero(weights) > limits.max_names:
-            starts = [s for s in (start,) if s is not None]
+            starts = [s & scaling.usable for s in (start,) if s is not None and np.any(s)]
             path_mask = np.zeros(p, dtype=bool)
             path_mask[data.columns] = lasso_path_support(
                 data, limits.max_names, positive=limits.long_only
@@ -138,6 +139,7 @@ def fit_limited_gram(
                 eligible=scaling.usable,
                 full_swaps=search.full_swaps,
                 screen=search.screen,
+                forward=search.forward,
             )
             record = replace(record, uncapped_objective=float(base.objective))
         if limits.min_position is not None:
@@ -182,6 +184,7 @@ def fit_limited(
     limits: Limits,
     *,
     search: SearchOptions = FULL_SEARCH,
+    start: np.ndarray | None = None,
 ) -> FittedWeights:
     """Scale on these rows and fit at one penalty under ``limits`` (see module docstring).
 
@@ -189,10 +192,13 @@ def fit_limited(
     ----------
     X : ndarray of shape (n_periods, n_assets)
     y : ndarray of shape (n_periods,)
+    start : ndarray of bool, shape (n_assets,), optional
+        An extra starting support for the max-names search (for example the names chosen on
+        fewer rows); forward selection from no names still runs unless ``search`` says not.
     """
     if not limits.any:
         return fit_penalized(X, y, alpha, l1_ratio)
     scaling = fit_scaling(X, y)
     return fit_limited_gram(
-        standardized_gram(X, y, scaling), scaling, alpha, l1_ratio, limits, search=search
+        standardized_gram(X, y, scaling), scaling, alpha, l1_ratio, limits, search=search, start=start
     )

@@ -254,6 +254,7 @@ def search_support(
     eligible: np.ndarray | None = None,
     full_swaps: bool = True,
     screen: int | None = None,
+    forward: bool = True,
 ) -> tuple[np.ndarray, float, np.ndarray, SupportSearch]:
     """Choose at most ``max_names`` names by forward selection and swaps, each support refitted.
 
@@ -284,6 +285,10 @@ def search_support(
     screen : int, optional
         Try in each swap pass only the ``screen`` outside names whose addition lowers the
         objective most (for cross-validation, where thousands of searches run).
+    forward : bool
+        Run forward selection from no names. False skips it when ``starts`` are given (inside
+        cross-validation, where the previous penalty's support is a better start at a fraction
+        of the cost); it is still run when there are no starts.
 
     Returns
     -------
@@ -334,7 +339,9 @@ def search_support(
         objective, weights, label, swaps = uncapped, full_weights, "uncapped fit", 0
     else:
         search = _Search(cache, candidates, max_names)
-        found = [("forward selection", *search.grow(frozenset(), np.inf))]
+        found = []
+        if forward or not start_sets:
+            found.append(("forward selection", *search.grow(frozenset(), np.inf)))
         for held in start_sets:
             current = cache.solve(held)[0] if held else np.inf
             found.append(("lasso path", *search.grow(held, current)))

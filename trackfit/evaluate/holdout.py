@@ -82,6 +82,11 @@ class StudyDesign:
     min_ratio: float = 1e-3
 
 
+def _held(fit: FittedWeights) -> np.ndarray | None:
+    """The names a capped fit chose, as a start for the next search (None when uncapped)."""
+    return fit.weights != 0 if fit.search is not None else None
+
+
 def _dropped_names(fit: FittedWeights, names: Sequence[str]) -> list[str]:
     if fit.scaling is None:
         return []
@@ -179,14 +184,20 @@ def run_holdout(
             limits=limits,
         )
         train_fit = fit_limited(Xt, yt, cv.alpha, cv.l1_ratio, limits)
-        final_fit = fit_limited(X, y, cv.alpha, cv.l1_ratio, limits) if n_holdout else train_fit
+        final_fit = (
+            fit_limited(X, y, cv.alpha, cv.l1_ratio, limits, start=_held(train_fit))
+            if n_holdout
+            else train_fit
+        )
         extra = uncapped(cv.alpha, cv.l1_ratio)
         outcomes.append(judge(spec.name, spec.kind, cv, train_fit, final_fit, extra))
 
     say("fitting the OLS and equal-weight baselines")
     if limits.any:  # least squares under the limits: alpha = 0
         ols_train = fit_limited(Xt, yt, 0.0, 0.0, limits)
-        ols_final = fit_limited(X, y, 0.0, 0.0, limits) if n_holdout else ols_train
+        ols_final = (
+            fit_limited(X, y, 0.0, 0.0, limits, start=_held(ols_train)) if n_holdout else ols_train
+        )
     else:
         ols_train = fit_ols(Xt, yt)
         ols_final = fit_ols(X, y) if n_holdout else ols_train

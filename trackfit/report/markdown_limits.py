@@ -174,6 +174,10 @@ def _status_cells(status: LimitStatus) -> list[str]:
     return [percent(status.bound, 4), percent(status.value, 4), percent(status.slack, 4)]
 
 
+#: Non-binding limits shown after the binding ones, in the statuses' own order.
+STATUS_ROWS_WITH_ROOM = 10
+
+
 def _statuses(outcome: FitOutcome, model: ModelOutcome) -> list[str]:
     statuses = model.final_fit.limits
     if not statuses:
@@ -188,14 +192,22 @@ def _statuses(outcome: FitOutcome, model: ModelOutcome) -> list[str]:
         "a limit binds when its slack is 0. Weights, sums and turnover are in percent.",
         "",
     ]
+    ordered = binding_first(statuses)
+    shown = ordered[: binding + STATUS_ROWS_WITH_ROOM]
     lines += table(
         ["Limit", "Bound", "Value", "Slack", "Binding"],
         [
             [status_words(s, names), *_status_cells(s), "yes" if s.binding else "no"]
-            for s in binding_first(statuses)
+            for s in shown
         ],
         [False, True, True, True, False],
     )
+    if len(ordered) > len(shown):
+        lines += [
+            "",
+            f"{len(ordered) - len(shown)} more limits hold with more room than those shown; "
+            "summary.json lists every one.",
+        ]
     return lines
 
 

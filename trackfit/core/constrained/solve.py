@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
+from functools import cached_property
 
 import numpy as np
 
@@ -11,7 +12,7 @@ from trackfit.core.constrained.optimality import kkt_residual, multipliers_lp, s
 from trackfit.core.constrained.polish import PIN_TOL, ROW_TOL, polish
 from trackfit.core.constrained.problem import Problem, build_problem, objective
 from trackfit.core.constrained.state import State, classify, pinned_weights
-from trackfit.core.constrained.statuses import BINDING, measure
+from trackfit.core.constrained.statuses import BINDING, limit_statuses, worst_violation
 from trackfit.core.fit import KKT_LIMIT
 from trackfit.core.gram import GramData
 from trackfit.core.limits import Limits, LimitStatus
@@ -40,7 +41,8 @@ class LimitedSolution:
         Largest violation of the constrained problem's optimality conditions (stationarity and
         complementary slackness relative to ``max |X_s'y_s| / n``; limits in original units).
     statuses : tuple of LimitStatus
-        Every limit in force, in the order of :func:`limit_statuses`.
+        Every limit in force, in the order of :func:`limit_statuses` (computed when first
+        asked for: a support search solves thousands of fits and reads few of them).
     ridge_added : float
         The ridge added to make the solution unique (see ``RIDGE_FOR_UNIQUENESS``), 0 if none.
     polished : bool
@@ -52,19 +54,27 @@ class LimitedSolution:
     weights: np.ndarray
     objective: float
     kkt_residual: float
-    statuses: tuple[LimitStatus, ...]
+    limits: Limits = field(repr=False)
     ridge_added: float
     polished: bool = True
+
+    @cached_property
+    def statuses(self) -> tuple[LimitStatus, ...]:
+        return limit_statuses(self.weights, self.limits)
 
 
 @dataclass(frozen=True, eq=False)
 class _Candidate:
     b: np.ndarray
     weights: np.ndarray
-    statuses: tuple[LimitStatus, ...]
+    limits: Limits
     residual: float
     violation: float
     polished: bool
+
+    @property
+    def statuses(self) -> tuple[LimitStatus, ...]:
+        return limit_statuses(self.weights, self.limits)
 
 
 def _evaluate(
@@ -73,9 +83,9 @@ def _evaluate(
     weights = np.zeros(p)
     weights[prob.cols] = pinned_weights(prob, state, b)
     weights[weights == 0.0] = 0.0  # never -0.0
-    statuses, violation = measure(weights, limits)
+    violation = worst_violation(weights, limits)
     residual = kkt_residual(prob, state, b, mu, mu_cap, violation)
-    return _Candidate(b, weights, statuses, residual, violation, polished)
+    return _Candidate(b, weights, limits, residual, violation, polished)
 
 
 def _describe(status: LimitStatus) -> str:
@@ -177,7 +187,7 @@ def solve_limited(
                 weights=cand.weights,
                 objective=objective(prob, cand.b),
                 kkt_residual=float(cand.residual),
-                statuses=cand.statuses,
+                limits=limits,
                 ridge_added=prob.ridge,
                 polished=cand.polished,
             )

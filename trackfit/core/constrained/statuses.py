@@ -80,6 +80,41 @@ def _raw_statuses(weights: np.ndarray, limits: Limits) -> list[LimitStatus]:
     return out
 
 
+def worst_violation(weights: np.ndarray, limits: Limits) -> float:
+    """How far the most broken limit of :func:`limit_statuses` is broken (0 when all hold).
+
+    Vectorized: the support search asks this of every refit, and needs no statuses.
+    """
+    w = np.asarray(weights, dtype=float)
+    worst = 0.0
+    if limits.long_only and w.size:
+        worst = max(worst, -float(w.min()))
+    if limits.lower is not None and w.size:
+        gap = limits.lower - w
+        worst = max(worst, float(np.max(np.where(np.isfinite(gap), gap, -np.inf))))
+    if limits.upper is not None and w.size:
+        gap = w - limits.upper
+        worst = max(worst, float(np.max(np.where(np.isfinite(gap), gap, -np.inf))))
+    for group in limits.groups:
+        total = float(np.sum(w[np.asarray(group.members, dtype=int)])) if group.members else 0.0
+        if _finite(group.lower):
+            worst = max(worst, group.lower - total)
+        if _finite(group.upper):
+            worst = max(worst, total - group.upper)
+    if limits.budget is not None:
+        lo, hi = limits.budget
+        total = float(np.sum(w))
+        if _finite(lo):
+            worst = max(worst, lo - total)
+        if _finite(hi):
+            worst = max(worst, total - hi)
+    if limits.max_turnover is not None:
+        current = limits.current if limits.current is not None else np.zeros(w.size)
+        value = float(np.sum(np.abs(w - current))) / 2.0 + limits.outside_turnover
+        worst = max(worst, value - limits.max_turnover)
+    return max(worst, 0.0)
+
+
 def measure(weights: np.ndarray, limits: Limits) -> tuple[tuple[LimitStatus, ...], float]:
     """:func:`limit_statuses`, and how far the most broken limit is broken (0 when all hold)."""
     raw = _raw_statuses(weights, limits)
