@@ -122,3 +122,31 @@ def test_conflicting_limits_fail_before_fitting_naming_them(folder, tmp_path):
     assert "the mandate limits conflict" in result.stderr
     assert "max_names" in result.stderr or "2" in result.stderr
     assert not (tmp_path / "weights.csv").exists()
+
+
+def test_cash_range_name_overrides_and_minimum_position(folder, tmp_path):
+    job = folder / "ranged.yaml"
+    job.write_text(
+        "benchmark: {file: index.csv, column: idx}\n"
+        "constituents: [{file: members.csv}]\n"
+        "window: {holdout: 30}\n"
+        "models: {lasso: {}}\n"
+        "penalty_grid: {count: 6}\n"
+        "cross_validation: {folds: 3}\n"
+        "limits:\n"
+        "  budget: {min: 0.9, max: 0.95}\n"
+        "  weight: {min: -0.05, max: 0.3}\n"
+        "  names: {firm_a: {max: 0.1}}\n"
+        "  min_position: 0.03\n"
+    )
+    result = _fit(job, tmp_path)
+    assert result.exit_code == 0, result.stderr
+    values = np.array(list(_weights(tmp_path).values()))
+    assert 0.9 - 1e-9 <= values.sum() <= 0.95 + 1e-9
+    assert values.min() >= -0.05 - 1e-9 and values.max() <= 0.3 + 1e-9
+    assert _weights(tmp_path)["firm_a"] <= 0.1 + 1e-9
+    held = np.abs(values[values != 0])
+    assert held.min() >= 0.03 - 1e-9
+    summary = json.loads((tmp_path / "summary.json").read_text())
+    kinds = {s["kind"] for s in summary["limits"]["statuses"]}
+    assert {"budget_min", "budget_max", "lower", "upper", "min_position"} <= kinds
