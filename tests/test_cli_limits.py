@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from click.testing import CliRunner
 
-from trackfit.cli import EXIT_INPUT, main
+from trackfit.cli import EXIT_INPUT, EXIT_WARNINGS, main
 
 NAMES = [f"firm_{c}" for c in "abcdefghijkl"]
 # Current holdings within every limit below (harbour 45 %, tidal 35 %, kelp 20 %).
@@ -109,7 +109,7 @@ def test_a_turnover_cap_of_zero_keeps_the_current_holdings(folder, tmp_path):
 def test_l1_under_long_only_and_fully_invested_is_warned(folder, tmp_path):
     job = _job(folder, "l1", models="{lasso: {}}", hold="lasso", extra="max_names: 12")
     result = _fit(job, tmp_path)
-    assert result.exit_code == 0, result.stderr
+    assert result.exit_code == EXIT_WARNINGS, result.stderr  # written, with a warning
     assert "an L1 penalty cannot make the portfolio sparse" in result.stderr
     assert "limits.max_names" in result.stderr
     assert "an L1 penalty cannot make the portfolio sparse" in (tmp_path / "report.md").read_text()

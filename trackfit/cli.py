@@ -1,8 +1,11 @@
-"""The command line: parse, call one function in :mod:`trackfit.run`, turn errors into exit codes.
+"""The command line: parse, call the run layer, turn errors into exit codes.
 
-Exit codes: 0 success; 2 the job, the data or the command line needs fixing; 3 a fit could
-not reach the required accuracy; 4 an internal error (a bug in trackfit: please report it).
-Data (paths of files written) go to stdout; progress, warnings and errors go to stderr.
+Exit codes: 0 success; 1 success, but the weights were produced with warnings (printed on
+stderr unless --quiet, and kept in the report); 2 the job, the data or the command line needs
+fixing; 3 a fit could not reach the required accuracy; 4 an internal error (a bug in trackfit:
+please report it); 5 another run holds the lock on the output folder. Cron can alert on any
+non-zero code. Data (paths of files written) go to stdout; progress, warnings and errors go to
+stderr. No command ever prompts.
 """
 
 from __future__ import annotations
@@ -15,13 +18,28 @@ from pathlib import Path
 import click
 
 from trackfit import __version__
+from trackfit.backtest_run import (
+    BACKENDS,
+    LAYOUTS,
+    default_backtest_folder,
+    output_folder,
+    resolve_as_of,
+    run_backtest_job,
+)
+from trackfit.diffing import FORMATS, diff_weights
 from trackfit.errors import SolverError, TrackfitError
 from trackfit.job import load_job
+from trackfit.lock import OutputLock, OutputLocked
+from trackfit.report.backtest_files import write_backtest_reports
+from trackfit.report.diff_render import RENDERERS
+from trackfit.report.files import atomic_write_text
 from trackfit.run import describe_plan, fit_job, plan_fit
 
+EXIT_WARNINGS = 1
 EXIT_INPUT = 2
 EXIT_SOLVER = 3
 EXIT_INTERNAL = 4
+EXIT_LOCKED = 5
 
 
 class _Failure(click.ClickException):
@@ -36,6 +54,8 @@ def _guarded(work):
     """Run ``work()``, converting every error into a :class:`_Failure` in this one place."""
     try:
         return work()
+    except OutputLocked as exc:
+        raise _Failure(str(exc), EXIT_LOCKED) from None
     except SolverError as exc:
         raise _Failure(str(exc), EXIT_SOLVER) from None
     except TrackfitError as exc:
@@ -79,9 +99,64 @@ def main() -> None:
     """Build index-tracking weights from return histories, one rebalance at a time.
 
     A YAML job file names the benchmark, the constituents and how to fit; see the README for
-    every key. Exit codes: 0 success, 2 fix the job, data or command line, 3 a fit failed to
-    reach the required accuracy, 4 internal error.
+    every key. Exit codes: 0 success, 1 success with warnings, 2 fix the job, data or command
+    line, 3 a fit failed to reach the required accuracy, 4 internal error, 5 another run holds
+    the output folder's lock.
     """
+
+
+_QUIET = click.option(
+    "--quiet", "-q", is_flag=True, help="Print no progress or warnings on stderr."
+)
+_LAYOUT = click.option(
+    "--layout",
+    type=click.Choice(LAYOUTS),
+    default="fixed",
+    show_default=True,
+    help="fixed: overwrite the files in the output folder; dated: write into "
+    "<output folder>/<as-of date>/.",
+)
+
+
+def _say(quiet: bool, only_on_terminal: bool = False):
+    """Progress on stderr, or None when quiet (or when stderr is not a terminal, if asked)."""
+    if quiet or (only_on_terminal and not click.get_text_stream("stderr").isatty()):
+        return None
+    return lambda msg: click.echo(msg, err=True)
+
+
+#: ``fit`` and ``backtest`` exit 1 when they wrote their files but with warnings, so that cron
+#: can alert on any non-zero code; --no-warnings-exit turns that into 0.
+FIT_WARNINGS_EXIT = True
+
+
+def _warnings_exit(default: bool):
+    return click.option(
+        "--warnings-exit/--no-warnings-exit",
+        default=default,
+        show_default=True,
+        help="Exit with code 1 (instead of 0) when the files were written but with warnings, "
+        "so cron can alert on any non-zero code.",
+    )
+
+
+def _finish(warnings, paths, quiet: bool, warnings_exit: bool) -> int:
+    """Print the warnings (unless quiet) and the paths; the exit code of a successful run."""
+    if not quiet:
+        for w in warnings:
+            click.echo(f"warning: {w}", err=True)
+    for p in paths:
+        click.echo(str(p))
+    return EXIT_WARNINGS if warnings and warnings_exit else 0
+
+
+def _locked(root: Path, quiet: bool, work):
+    """Run ``work()`` holding the lock on ``root``; a stale lock taken over is reported."""
+    with OutputLock(root) as lock:
+        if not quiet:
+            for w in lock.warnings:
+                click.echo(f"warning: {w}", err=True)
+        return work()
 
 
 @main.command()
@@ -94,24 +169,145 @@ def main() -> None:
     default=None,
     help="Folder for weights.csv, report.md and summary.json. Default: the job's output.directory.",
 )
-@click.option("--quiet", "-q", is_flag=True, help="Print no progress or warnings on stderr.")
-def fit(job: Path, as_of: date | None, out_dir: Path | None, quiet: bool) -> None:
+@_QUIET
+@_LAYOUT
+@_warnings_exit(FIT_WARNINGS_EXIT)
+@click.pass_context
+def fit(
+    ctx,
+    job: Path,
+    as_of: date | None,
+    out_dir: Path | None,
+    quiet: bool,
+    layout: str,
+    warnings_exit: bool,
+) -> None:
     """Fit the weights to hold at the as-of date and write weights, report and summary.
 
     Penalties are chosen by time-ordered cross-validation on the rows before the holdout, the
     models are judged on the holdout, and the held weights are refitted on the whole window.
-    The paths of the files written are printed on stdout, one per line.
+    The paths of the files written are printed on stdout, one per line. Exit code 1 means the
+    files were written but with warnings (--no-warnings-exit makes that 0).
     """
-    progress = None if quiet else (lambda msg: click.echo(msg, err=True))
+    progress = _say(quiet)
 
     def work():
         spec = load_job(job)
-        outcome, paths = fit_job(spec, as_of=as_of, out_dir=out_dir, progress=progress)
-        if not quiet:
-            for w in outcome.warnings:
-                click.echo(f"warning: {w}", err=True)
-        for p in paths:
-            click.echo(str(p))
+        root = out_dir or spec.output.directory
+
+        def locked():
+            folder = root if layout == "fixed" else output_folder(
+                root, layout, resolve_as_of(spec, as_of))
+            outcome, paths = fit_job(spec, as_of=as_of, out_dir=folder, progress=progress)
+            return _finish(outcome.warnings, paths, quiet, warnings_exit)
+
+        return _locked(root, quiet, locked)
+
+    ctx.exit(_guarded(work))
+
+
+@main.command()
+@_JOB
+@_AS_OF
+@click.option(
+    "--out",
+    "out_dir",
+    type=click.Path(file_okay=False, path_type=Path),
+    default=None,
+    help="Folder for weights_history.csv, returns.csv, report.md and summary.json. "
+    "Default: <output.directory>/backtest.",
+)
+@click.option(
+    "--jobs",
+    "-j",
+    "n_jobs",
+    type=click.IntRange(min=1),
+    default=1,
+    show_default=True,
+    help="Rebalances fitted in parallel (when no turnover limit links them); the results do "
+    "not depend on it.",
+)
+@click.option(
+    "--backend",
+    type=click.Choice(BACKENDS),
+    default="loky",
+    show_default=True,
+    help="Parallel backend: loky (local processes) or dask (dask.distributed; install "
+    "trackfit[dask]).",
+)
+@click.option(
+    "--scheduler",
+    default=None,
+    metavar="ADDRESS",
+    help="With --backend dask: the scheduler to use, such as tcp://127.0.0.1:8786. "
+    "Default: a local cluster of --jobs workers.",
+)
+@_QUIET
+@_LAYOUT
+@_warnings_exit(True)
+@click.pass_context
+def backtest(
+    ctx,
+    job: Path,
+    as_of: date | None,
+    out_dir: Path | None,
+    n_jobs: int,
+    backend: str,
+    scheduler: str | None,
+    quiet: bool,
+    layout: str,
+    warnings_exit: bool,
+) -> None:
+    """Walk the job forward: refit at every rebalance date, hold, pay costs, measure.
+
+    Each rebalance fits the held model with the job's cross-validation on data up to that date
+    only, with no holdout; the returns after it are the test. The schedule comes from the
+    job's backtest section. The paths of the files written are printed on stdout. Progress
+    goes to stderr when it is a terminal.
+    """
+    progress = _say(quiet, only_on_terminal=True)
+
+    def work():
+        spec = load_job(job)
+        root = out_dir or default_backtest_folder(spec)
+
+        def locked():
+            outcome = run_backtest_job(spec, as_of=as_of, n_jobs=n_jobs, backend=backend,
+                                       scheduler=scheduler, progress=progress)
+            folder = output_folder(root, layout, as_of or outcome.as_of)
+            paths = write_backtest_reports(outcome, folder)
+            return _finish(outcome.warnings, paths, quiet, warnings_exit)
+
+        return _locked(root, quiet, locked)
+
+    ctx.exit(_guarded(work))
+
+
+@main.command()
+@click.argument("old", type=click.Path(dir_okay=False, path_type=Path))
+@click.argument("new", type=click.Path(dir_okay=False, path_type=Path))
+@click.option(
+    "--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True,
+    help="text for a terminal, csv or json for scripts.",
+)
+@click.option(
+    "--out", "out_file", type=click.Path(dir_okay=False, path_type=Path), default=None,
+    help="Write to this file (atomically) and print its path, instead of printing the diff.",
+)
+def diff(old: Path, new: Path, fmt: str, out_file: Path | None) -> None:
+    """Compare two weight files: names added, dropped and changed, and the one-way turnover.
+
+    OLD and NEW are weights.csv files written by trackfit fit, or any name,weight CSV. Names
+    are listed by the size of their change, largest first.
+    """
+
+    def work():
+        text = RENDERERS[fmt](diff_weights(old, new))
+        if out_file is None:
+            click.echo(text, nl=False)
+        else:
+            atomic_write_text(out_file, text)
+            click.echo(str(out_file))
 
     _guarded(work)
 

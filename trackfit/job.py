@@ -17,6 +17,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from trackfit.jobfile.backtest import parse_backtest
 from trackfit.jobfile.checks import Reader
 from trackfit.jobfile.limits import parse_holdings, parse_limits
 from trackfit.jobfile.models import (
@@ -46,6 +47,7 @@ from trackfit.jobfile.sections import (
     parse_window,
 )
 from trackfit.jobfile.specs import (
+    BacktestSpec,
     Bounds,
     ConstituentSource,
     CVSpec,
@@ -64,14 +66,14 @@ from trackfit.jobfile.specs import (
 __all__ = [
     "BASELINES", "DEFAULT_L1_RATIOS", "DEFAULT_MODELS", "DEFAULT_OUTPUT_DIRECTORY", "MISSING",
     "QUOTES", "RULES", "SCHEMES", "UNITS", "VALUES",
-    "Bounds", "ConstituentSource", "CVSpec", "DataSpec", "GridSpec", "GroupsSpec", "HoldingsSpec",
-    "Job", "LimitsSpec", "OutputSpec", "RiskFreeSpec", "SeriesRef", "WindowSpec",
+    "BacktestSpec", "Bounds", "ConstituentSource", "CVSpec", "DataSpec", "GridSpec", "GroupsSpec",
+    "HoldingsSpec", "Job", "LimitsSpec", "OutputSpec", "RiskFreeSpec", "SeriesRef", "WindowSpec",
     "load_job",
 ]
 
 _TOP_KEYS = (
     "name", "benchmark", "constituents", "risk_free", "data", "window", "models", "hold",
-    "penalty_grid", "cross_validation", "output", "limits", "holdings",
+    "penalty_grid", "cross_validation", "output", "limits", "holdings", "backtest",
 )
 
 
@@ -109,7 +111,7 @@ def load_job(path: str | Path) -> Job:
         constituents=parse_constituents(r, raw.get("constituents"), benchmark, bench_file),
         risk_free=parse_risk_free(r, raw.get("risk_free")),
         data=parse_data(r, raw.get("data")),
-        window=parse_window(r, raw.get("window")),
+        window=(window := parse_window(r, raw.get("window"))),
         models=models,
         hold=parse_hold(r, raw.get("hold"), models),
         grid=parse_grid(r, raw.get("penalty_grid")),
@@ -117,4 +119,5 @@ def load_job(path: str | Path) -> Job:
         output=parse_output(r, raw.get("output")),
         limits=parse_limits(r, raw.get("limits")),
         holdings=parse_holdings(r, raw.get("holdings")),
+        backtest=parse_backtest(r, raw.get("backtest"), window),
     )

@@ -145,3 +145,18 @@ class Job:
     output: OutputSpec
     limits: LimitsSpec = LimitsSpec()
     holdings: HoldingsSpec | None = None
+    backtest: BacktestSpec | None = None
+
+
+@dataclass(frozen=True)
+class BacktestSpec:
+    """How ``trackfit backtest`` walks forward: schedule, window, holding mode and costs."""
+
+    every: str = "month_end"  # "month_end" | "week_end" | "periods"
+    periods: int | None = None  # rows between rebalances, with every: periods only
+    start: date | None = None  # first rebalance date; None = first date with a full lookback
+    end: date | None = None  # last rebalance date; None = the last date
+    window: str = "rolling"  # "rolling" (window.lookback rows) | "expanding" (all rows)
+    mode: str = "buy_and_hold"  # "buy_and_hold" | "constant_mix"
+    cost_bps: float = 0.0  # flat cost per unit of value traded, in basis points
+    cost_bps_names: tuple[tuple[str, float], ...] = ()  # per-name overrides of ``cost_bps``
