@@ -13,7 +13,7 @@ import numpy as np
 
 from trackfit.core.fit import check_accuracy
 from trackfit.core.folds import ForwardChaining
-from trackfit.core.gram import GramData, standardized_gram
+from trackfit.core.gram import GramData, gram_from_blocks, row_blocks
 from trackfit.core.grid import extend_grid, penalty_grid
 from trackfit.core.limited_fit import CV_SEARCH, fit_limited_gram
 from trackfit.core.limits import NO_LIMITS, Limits
@@ -144,19 +144,23 @@ def cross_validate(
     positive = positive or limits.long_only
     folds = splitter.split(len(y))
     whole_scaling = fit_scaling(X, y)
-    whole = standardized_gram(X, y, whole_scaling)
+    # One pass over the rows: every training window is a run of whole blocks.
+    bounds = sorted({0, len(y)} | {b for f in folds for b in (f.train_start, f.train_stop)})
+    blocks = row_blocks(X, y, bounds)
+    whole = gram_from_blocks(blocks, 0, len(y), whole_scaling)
     fold_data = []
     for fold in folds:
         Xt, yt = X[fold.train_start : fold.train_stop], y[fold.train_start : fold.train_stop]
         scaling = fit_scaling(Xt, yt) if refit_scaling else whole_scaling
         fold_data.append(
             _FoldData(
-                data=standardized_gram(Xt, yt, scaling),
+                data=gram_from_blocks(blocks, fold.train_start, fold.train_stop, scaling),
                 scaling=scaling,
                 X_val=X[fold.val_start : fold.val_stop],
                 y_val=y[fold.val_start : fold.val_stop],
             )
         )
+    del blocks
 
     curves, notes = [], []
     for l1_ratio in spec.l1_ratios:
