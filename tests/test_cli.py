@@ -27,19 +27,25 @@ def demo_runs(tmp_path_factory):
     return outs, results
 
 
-def test_fit_on_the_demo_writes_the_three_files_and_lists_them_on_stdout(demo_runs):
+FIGURES = ("top_weights.png", "cv_lasso.png", "cv_elastic_net.png", "cv_ridge.png")
+
+
+def test_fit_on_the_demo_writes_its_files_and_lists_them_on_stdout(demo_runs):
     outs, results = demo_runs
     result = results[0]
     assert result.exit_code == 0, result.stderr
-    assert result.stdout.splitlines() == [str(outs[0] / name) for name in FILES]
-    for name in FILES:
+    assert result.stdout.splitlines() == [str(outs[0] / name) for name in FILES + FIGURES]
+    for name in FILES + FIGURES:
         assert (outs[0] / name).stat().st_size > 0
+    report = (outs[0] / "report.md").read_text()
+    for name in FIGURES:  # embedded with relative links
+        assert f"]({name})" in report
     assert "constituents" in result.stderr  # progress goes to stderr
 
 
 def test_fit_is_byte_identical_on_a_second_run(demo_runs):
     outs, _ = demo_runs
-    for name in FILES:
+    for name in FILES + FIGURES:
         assert (outs[0] / name).read_bytes() == (outs[1] / name).read_bytes(), name
 
 
@@ -144,3 +150,11 @@ def test_help_lists_the_commands():
     result = _run("--help")
     assert result.exit_code == 0
     assert "fit" in result.stdout and "check" in result.stdout and "Exit codes" in result.stdout
+
+
+def test_no_figures_writes_only_the_text_files(tmp_path):
+    result = _run("fit", DEMO / "job.yaml", "--out", tmp_path, "--no-figures", "-q")
+    assert result.exit_code == 0, result.stderr
+    assert [Path(p).name for p in result.stdout.splitlines()] == list(FILES)
+    assert not list(tmp_path.glob("*.png"))
+    assert "## Figures" not in (tmp_path / "report.md").read_text()

@@ -14,6 +14,7 @@ from trackfit.cli import EXIT_LOCKED, EXIT_WARNINGS, main
 from trackfit.lock import LOCK_NAME, lock_text
 
 FILES = ("weights_history.csv", "returns.csv", "report.md", "summary.json")
+FIGURES = ("cumulative.png", "rolling_tracking_error.png", "names_turnover.png")
 
 
 def _run(*args):
@@ -21,7 +22,7 @@ def _run(*args):
 
 
 def _bytes(folder):
-    return {name: (folder / name).read_bytes() for name in FILES}
+    return {name: (folder / name).read_bytes() for name in FILES + FIGURES}
 
 
 @pytest.fixture(scope="module")
@@ -42,7 +43,7 @@ def test_backtest_writes_the_four_files_and_lists_them(runs):
     _, outs, results = runs
     result = results[0]
     assert result.exit_code == 0, result.stderr
-    assert result.stdout.splitlines() == [str(outs[0] / name) for name in FILES]
+    assert result.stdout.splitlines() == [str(outs[0] / name) for name in FILES + FIGURES]
     assert result.stderr == ""  # no progress when stderr is not a terminal, no warnings
     assert not (outs[0] / LOCK_NAME).exists()
 
@@ -84,7 +85,7 @@ def test_dated_layout_writes_into_a_folder_named_by_the_as_of_date(tmp_path):
                   "--as-of", "2025-12-15", "--quiet")
     assert result.exit_code == 0, result.stderr
     folder = tmp_path / "out" / "2025-12-15"
-    assert result.stdout.splitlines() == [str(folder / name) for name in FILES]
+    assert result.stdout.splitlines() == [str(folder / name) for name in FILES + FIGURES]
     summary = json.loads((folder / "summary.json").read_text())
     assert summary["as_of"] <= "2025-12-15" and summary["schedule"]["last"] <= "2025-12-15"
 
@@ -142,7 +143,7 @@ def test_warnings_give_exit_1_even_when_quiet(tmp_path):
     assert "warning: constituent 'flat'" in loud.stderr
     quiet = _run("backtest", job, "--out", tmp_path / "b", "--quiet")
     assert quiet.exit_code == EXIT_WARNINGS and quiet.stderr == ""
-    assert len(quiet.stdout.splitlines()) == 4
+    assert len(quiet.stdout.splitlines()) == len(FILES + FIGURES)
     assert "flat" in (tmp_path / "b" / "report.md").read_text()
     off = _run("backtest", job, "--out", tmp_path / "c", "--quiet", "--no-warnings-exit")
     assert off.exit_code == 0

@@ -125,6 +125,14 @@ def _say(quiet: bool, only_on_terminal: bool = False):
     return lambda msg: click.echo(msg, err=True)
 
 
+_FIGURES = click.option(
+    "--figures/--no-figures",
+    default=True,
+    show_default=True,
+    help="Draw PNG figures beside report.md and embed them in it (needs matplotlib: "
+    "pip install 'trackfit[plots]'; without it the report says they were skipped).",
+)
+
 #: ``fit`` and ``backtest`` exit 1 when they wrote their files but with warnings, so that cron
 #: can alert on any non-zero code; --no-warnings-exit turns that into 0.
 FIT_WARNINGS_EXIT = True
@@ -172,6 +180,7 @@ def _locked(root: Path, quiet: bool, work):
 @_QUIET
 @_LAYOUT
 @_warnings_exit(FIT_WARNINGS_EXIT)
+@_FIGURES
 @click.pass_context
 def fit(
     ctx,
@@ -181,6 +190,7 @@ def fit(
     quiet: bool,
     layout: str,
     warnings_exit: bool,
+    figures: bool,
 ) -> None:
     """Fit the weights to hold at the as-of date and write weights, report and summary.
 
@@ -198,7 +208,9 @@ def fit(
         def locked():
             folder = root if layout == "fixed" else output_folder(
                 root, layout, resolve_as_of(spec, as_of))
-            outcome, paths = fit_job(spec, as_of=as_of, out_dir=folder, progress=progress)
+            outcome, paths = fit_job(
+                spec, as_of=as_of, out_dir=folder, progress=progress, figures=figures
+            )
             return _finish(outcome.warnings, paths, quiet, warnings_exit)
 
         return _locked(root, quiet, locked)
@@ -245,6 +257,7 @@ def fit(
 @_QUIET
 @_LAYOUT
 @_warnings_exit(True)
+@_FIGURES
 @click.pass_context
 def backtest(
     ctx,
@@ -257,6 +270,7 @@ def backtest(
     quiet: bool,
     layout: str,
     warnings_exit: bool,
+    figures: bool,
 ) -> None:
     """Walk the job forward: refit at every rebalance date, hold, pay costs, measure.
 
@@ -275,7 +289,7 @@ def backtest(
             outcome = run_backtest_job(spec, as_of=as_of, n_jobs=n_jobs, backend=backend,
                                        scheduler=scheduler, progress=progress)
             folder = output_folder(root, layout, as_of or outcome.as_of)
-            paths = write_backtest_reports(outcome, folder)
+            paths = write_backtest_reports(outcome, folder, figures=figures)
             return _finish(outcome.warnings, paths, quiet, warnings_exit)
 
         return _locked(root, quiet, locked)

@@ -147,6 +147,7 @@ def fit_job(
     as_of: date | None = None,
     out_dir: Path | None = None,
     progress: Progress | None = None,
+    figures: bool = False,
 ) -> tuple[FitOutcome, list[Path]]:
     """Run one rebalance: plan, study every model, write the weights and reports.
 
@@ -154,6 +155,8 @@ def fit_job(
     ----------
     out_dir : Path, optional
         Where to write; default the job's ``output.directory``.
+    figures : bool
+        Also draw the PNG figures (when matplotlib is installed).
 
     Returns
     -------
@@ -197,7 +200,7 @@ def fit_job(
         trades=trade_list,
         notes=tuple(plan.notes),
     )
-    paths = write_reports(outcome, out_dir or job.output.directory)
+    paths = write_reports(outcome, out_dir or job.output.directory, figures=figures)
     return outcome, paths
 
 

@@ -2,9 +2,11 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from typing import TYPE_CHECKING
 
 from trackfit.report.caution import CAUTION
+from trackfit.report.markdown import figures_section
 from trackfit.report.numbers import fixed, iso_date, percent
 from trackfit.report.tables import inline, table
 
@@ -32,14 +34,24 @@ _MODES = {
 }
 
 
-def render_backtest_markdown(outcome: BacktestOutcome) -> str:
-    """The text of a backtest's report.md: ``"\\n"`` line endings, ending in one ``"\\n"``."""
+def render_backtest_markdown(
+    outcome: BacktestOutcome,
+    *,
+    figures: Sequence[tuple[str, str]] | None = None,
+    figures_skipped: bool = False,
+) -> str:
+    """The text of a backtest's report.md: ``"\\n"`` line endings, ending in one ``"\\n"``.
+
+    ``figures`` (caption, relative file) are listed in a last "Figures" section, as in the fit
+    report; ``figures_skipped`` says matplotlib was missing.
+    """
     first, last = iso_date(outcome.dates[0]), iso_date(outcome.dates[-1])
     lines = [f"# {inline(outcome.job.name)}: backtest, {first} to {last}", ""]
     lines += [f"> {inline(CAUTION)}", ""]
     for section in (_schedule, _tracking, _rebalances, _names, _notes, _warnings):
         lines += section(outcome)
         lines.append("")
+    lines += figures_section(tuple(figures or ()), figures_skipped)
     return "\n".join(lines).rstrip("\n") + "\n"
 
 

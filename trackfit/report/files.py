@@ -22,13 +22,32 @@ def atomic_write_text(path: Path, text: str) -> None:
     text : str
         Complete file contents.
     """
+    _atomic_write(path, text, {"mode": "w", "encoding": "utf-8", "newline": ""})
+
+
+def atomic_write_bytes(path: Path, data: bytes) -> None:
+    """Write ``data`` to ``path`` exactly, replacing any existing file in one step.
+
+    The same steps and guarantees as :func:`atomic_write_text`, for binary files (figures).
+
+    Parameters
+    ----------
+    path : Path
+        Destination file.
+    data : bytes
+        Complete file contents.
+    """
+    _atomic_write(path, data, {"mode": "wb"})
+
+
+def _atomic_write(path: Path, contents: str | bytes, open_args: dict) -> None:
     path = Path(path)
     folder = path.parent
     folder.mkdir(parents=True, exist_ok=True)
     fd, temp = _open_temp(folder, path.name)
     try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
-            handle.write(text)
+        with os.fdopen(fd, **open_args) as handle:
+            handle.write(contents)
             handle.flush()
             os.fsync(handle.fileno())
         os.replace(temp, path)

@@ -2,6 +2,10 @@
 
 from __future__ import annotations
 
+import re
+from collections.abc import Sequence
+from pathlib import PurePosixPath, PureWindowsPath
+
 import numpy as np
 
 from trackfit.core.results import CVCurve, CVResult, Fold
@@ -26,6 +30,15 @@ HEADINGS = (
     "## Warnings",
 )
 
+#: Heading of the last section, present only when figures were asked for.
+FIGURES_HEADING = "## Figures"
+
+#: The one line of that section when the figures could not be drawn.
+FIGURES_SKIPPED = (
+    "The figures were skipped because matplotlib is not installed; to draw them, install it "
+    "with `pip install 'trackfit[plots]'`."
+)
+
 #: Rows of a cross-validation curve shown, spread evenly along the grid (plus the marked ones).
 CURVE_ROWS = 12
 
@@ -38,17 +51,33 @@ _RULES = {
 }
 
 
-def render_markdown(outcome: FitOutcome) -> str:
+def render_markdown(
+    outcome: FitOutcome,
+    *,
+    figures: Sequence[tuple[str, str]] | None = None,
+    figures_skipped: bool = False,
+) -> str:
     """The text of report.md.
 
     Parameters
     ----------
     outcome : FitOutcome
+    figures : sequence of (caption, file) or None
+        Figures written beside report.md, listed as Markdown images in a last "Figures"
+        section; ``file`` is relative to report.md's folder. None or empty: no section.
+    figures_skipped : bool
+        True when figures were asked for but matplotlib is not installed: the section is one
+        line saying so (``figures`` must then be empty).
 
     Returns
     -------
     str
         Markdown with ``"\\n"`` line endings, ending in one ``"\\n"``.
+
+    Raises
+    ------
+    ValueError
+        If a figure file is given as an absolute path, or figures are given as skipped too.
     """
     held_weights(outcome)  # fail before rendering anything if the weights cannot be shown
     job = outcome.job
@@ -60,6 +89,7 @@ def render_markdown(outcome: FitOutcome) -> str:
     for section in sections:
         lines += section(outcome)
         lines.append("")
+    lines += figures_section(tuple(figures or ()), figures_skipped)
     return "\n".join(lines).rstrip("\n") + "\n"
 
 
@@ -431,3 +461,26 @@ def _warnings(outcome: FitOutcome) -> list[str]:
     if not outcome.warnings:
         return lines + ["None."]
     return lines + [f"- {inline(w)}" for w in outcome.warnings]
+
+
+def figures_section(figures: tuple[tuple[str, str], ...], skipped: bool) -> list[str]:
+    """The last "Figures" section of a report: images with relative links, or why none."""
+    if skipped:
+        if figures:
+            raise ValueError("Figures cannot be both listed and skipped in report.md.")
+        return [FIGURES_HEADING, "", FIGURES_SKIPPED]
+    if not figures:
+        return []
+    lines = [FIGURES_HEADING]
+    for caption, file in figures:
+        path = PurePosixPath(str(file).replace("\\", "/"))
+        if path.is_absolute() or PureWindowsPath(str(file)).is_absolute():
+            raise ValueError(
+                f"The figure file {file!r} must be given relative to report.md's folder."
+            )
+        text = inline(caption).replace("[", "\\[").replace("]", "\\]")
+        link = path.as_posix()
+        if not re.fullmatch(r"[A-Za-z0-9._/-]+", link):
+            link = f"<{link}>"  # CommonMark's form for destinations with spaces or brackets
+        lines += ["", f"![{text}]({link})"]
+    return lines
