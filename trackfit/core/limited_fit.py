@@ -19,7 +19,7 @@ from trackfit.core.fit import check_accuracy, fit_penalized
 from trackfit.core.gram import GramData, standardized_gram
 from trackfit.core.limits import Limits, LimitStatus
 from trackfit.core.results import FittedWeights, Scaling, SupportSearch
-from trackfit.core.scaling import fit_scaling
+from trackfit.core.scaling import fit_scaling, to_original_units
 from trackfit.core.solvers import default_solver
 from trackfit.core.support import enforce_min_position, lasso_path_support, search_support
 from trackfit.errors import SolverError
@@ -157,9 +157,7 @@ def fit_limited_gram(
         path = default_solver().path(data, np.array([alpha]), l1_ratio, positive=limits.long_only)
         coef_std = np.zeros(p)
         coef_std[data.columns] = path.coefs[0]
-        weights = coef_std * scaling.y_scale / scaling.x_scale
-        weights[~scaling.usable] = 0.0
-        weights[weights == 0.0] = 0.0
+        weights = to_original_units(coef_std, scaling)
         kkt = float(path.kkt_residuals[0])
         statuses = limit_statuses(weights, limits)
     check_accuracy(kkt, f"fit under mandate limits at alpha={alpha:.6g}")

@@ -7,10 +7,10 @@ ignored. A name may be listed more than once with the same group.
 
 from __future__ import annotations
 
-import csv
 import difflib
 from pathlib import Path
 
+from trackfit.data.csvrows import read_rows
 from trackfit.errors import DataError
 from trackfit.job import GroupsSpec
 
@@ -79,29 +79,7 @@ def read_groups(spec: GroupsSpec, *, label: str | None = None) -> dict[str, str]
 
 
 def _read_rows(path: Path, label: str) -> list[tuple[int, list[str]]]:
-    """Non-blank rows with their line numbers, every field stripped."""
-    if not path.is_file():
-        what = "is a folder, not a file" if path.is_dir() else "does not exist"
-        raise DataError(f"{label}: the groups file {what} ({path}); check 'limits.groups.file' "
-                        "in the job file (relative paths start from the job file's folder)")
-    try:
-        with path.open(encoding="utf-8-sig", newline="") as handle:
-            reader = csv.reader(handle, strict=True)
-            rows = []
-            line = 1
-            for fields in reader:
-                stripped = [f.strip() for f in fields]
-                if any(stripped):
-                    rows.append((line, stripped))
-                line = reader.line_num + 1
-            return rows
-    except UnicodeDecodeError as err:
-        raise DataError(f"{label}: not UTF-8 text ({err.reason}); save it as UTF-8 CSV") from None
-    except csv.Error as err:
-        raise DataError(f"{label}: line {reader.line_num}: not well-formed CSV ({err}); check the "
-                        "quotes on that line") from None
-    except OSError as err:
-        raise DataError(f"{label}: cannot read the groups file ({err.strerror})") from None
+    return read_rows(path, label, what="groups file", key="limits.groups.file")
 
 
 def _check_header(header: list[str], label: str) -> None:

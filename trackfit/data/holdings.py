@@ -7,7 +7,6 @@ names in the first column, decimal weights (0.05 = 5 %) in the second, header na
 
 from __future__ import annotations
 
-import csv
 import math
 import re
 from dataclasses import dataclass
@@ -15,6 +14,7 @@ from pathlib import Path
 
 import numpy as np
 
+from trackfit.data.csvrows import read_rows
 from trackfit.errors import DataError
 
 #: Name of the cash row in the weights.csv trackfit writes (see trackfit.report.held).
@@ -108,29 +108,7 @@ def read_holdings(path: Path, *, label: str | None = None) -> CurrentHoldings:
 
 
 def _read_rows(path: Path, label: str) -> list[tuple[int, list[str]]]:
-    """Non-blank rows with their line numbers, every field stripped."""
-    if not path.is_file():
-        what = "is a folder, not a file" if path.is_dir() else "does not exist"
-        raise DataError(f"{label}: the holdings file {what} ({path}); check 'holdings.file' in the "
-                        "job file (relative paths start from the job file's folder)")
-    try:
-        with path.open(encoding="utf-8-sig", newline="") as handle:
-            reader = csv.reader(handle, strict=True)
-            rows = []
-            line = 1
-            for fields in reader:
-                stripped = [f.strip() for f in fields]
-                if any(stripped):
-                    rows.append((line, stripped))
-                line = reader.line_num + 1
-            return rows
-    except UnicodeDecodeError as err:
-        raise DataError(f"{label}: not UTF-8 text ({err.reason}); save it as UTF-8 CSV") from None
-    except csv.Error as err:
-        raise DataError(f"{label}: line {reader.line_num}: not well-formed CSV ({err}); check the "
-                        "quotes on that line") from None
-    except OSError as err:
-        raise DataError(f"{label}: cannot read the holdings file ({err.strerror})") from None
+    return read_rows(path, label, what="holdings file", key="holdings.file")
 
 
 def _check_width(line: int, fields: list[str], label: str) -> None:
