@@ -27,7 +27,7 @@ from trackfit.backtest_run import (
     run_backtest_job,
 )
 from trackfit.diffing import FORMATS, diff_weights
-from trackfit.errors import SolverError, TrackfitError
+from trackfit.errors import InfeasibleError, SolverError, TrackfitError
 from trackfit.job import load_job
 from trackfit.lock import OutputLock, OutputLocked
 from trackfit.report.backtest_files import write_backtest_reports
@@ -56,6 +56,8 @@ def _guarded(work):
         return work()
     except OutputLocked as exc:
         raise _Failure(str(exc), EXIT_LOCKED) from None
+    except InfeasibleError as exc:  # limits that cannot all hold are the job's to fix
+        raise _Failure(f"the mandate limits cannot all hold: {exc}", EXIT_INPUT) from None
     except SolverError as exc:
         raise _Failure(str(exc), EXIT_SOLVER) from None
     except TrackfitError as exc:

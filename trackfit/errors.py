@@ -22,3 +22,7 @@ class DataError(TrackfitError):
 
 class SolverError(TrackfitError):
     """A fit could not reach the required accuracy or the problem is ill-posed."""
+
+
+class InfeasibleError(SolverError):
+    """No weights satisfy every mandate limit together (on the names allowed)."""

@@ -22,7 +22,7 @@ from trackfit.core.results import FittedWeights, Scaling, SupportSearch
 from trackfit.core.scaling import fit_scaling, to_original_units
 from trackfit.core.solvers import default_solver
 from trackfit.core.support import enforce_min_position, lasso_path_support, search_support
-from trackfit.errors import SolverError
+from trackfit.errors import InfeasibleError, SolverError
 
 #: Binding tolerance for the count limits, as for the others.
 _BINDING = 1e-9
@@ -85,7 +85,7 @@ class _Refitter:
                 self.cache[key] = solve_limited(
                     self.data, self.scaling, self.alpha, self.l1_ratio, self.limits, support=mask
                 )
-            except SolverError:  # an infeasible support is a normal outcome of a search
+            except InfeasibleError:  # an infeasible support is a normal outcome of a search
                 self.cache[key] = None
         return self.cache[key]
 

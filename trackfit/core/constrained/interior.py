@@ -23,7 +23,7 @@ import numpy as np
 from scipy import sparse
 
 from trackfit.core.constrained.problem import Problem
-from trackfit.errors import SolverError
+from trackfit.errors import InfeasibleError, SolverError
 
 _TOL = 1e-12
 _MAX_ITER = 200
@@ -196,7 +196,7 @@ def solve_interior(prob: Problem) -> InteriorPoint:
     solution = clarabel.DefaultSolver(_csc(P), q, _csc(A), rhs, cones, _settings()).solve()
     status = str(solution.status).split(".")[-1]
     if status in _INFEASIBLE:
-        raise SolverError(_infeasible_message(np.asarray(solution.z), labels(), prob))
+        raise InfeasibleError(_infeasible_message(np.asarray(solution.z), labels(), prob))
     x = np.asarray(solution.x, dtype=float)
     if status not in _SOLVED or x.shape != (n,) or not np.all(np.isfinite(x)):
         raise SolverError(

@@ -22,7 +22,7 @@ from scipy import linalg
 from trackfit.core.gram import GramData
 from trackfit.core.limits import Limits
 from trackfit.core.results import Scaling
-from trackfit.errors import SolverError
+from trackfit.errors import InfeasibleError
 
 #: Ridge added, times the mean diagonal of the standardized Gram matrix, when the problem is
 #: not strictly convex (no L2 penalty and a singular Gram matrix, as with more names than rows).
@@ -156,7 +156,7 @@ def build_problem(
     ------
     ValueError
         Arrays of the wrong shape, NaN, or turnover limits without current holdings.
-    SolverError
+    InfeasibleError
         A column that must hold 0 (unusable, or outside ``support``) has bounds excluding 0,
         a name's bounds cross, or holdings that cannot be traded already exceed the cap.
     """
@@ -185,7 +185,7 @@ def build_problem(
     crossed = np.flatnonzero(solved & (lower > upper))
     if len(crossed):
         j = int(crossed[0])
-        raise SolverError(
+        raise InfeasibleError(
             f"constituent {j}: its minimum weight {lower[j]:.6g} is above its maximum "
             f"{upper[j]:.6g}{' (long-only sets the minimum to 0)' if limits.long_only else ''}"
             "; change one of the two"
@@ -205,7 +205,7 @@ def build_problem(
         forced = float(np.abs(current[~solved]).sum()) / 2.0 + limits.outside_turnover
         cap = float(limits.max_turnover) - forced
         if cap < -_NO_ROOM:
-            raise SolverError(
+            raise InfeasibleError(
                 f"max_turnover {limits.max_turnover:.6g} is below the turnover forced by selling "
                 f"holdings that cannot be held ({forced:.6g}: names outside the constituents, "
                 "outside the names allowed, or with no variance in the window); raise max_turnover"
@@ -214,7 +214,7 @@ def build_problem(
             bad = np.flatnonzero((cur_w < lo_w) | (cur_w > hi_w))
             if len(bad):
                 j = int(cols[bad[0]])
-                raise SolverError(
+                raise InfeasibleError(
                     f"max_turnover leaves no room to trade, but the current weight of "
                     f"constituent {j} ({current[j]:.6g}) is outside its bounds "
                     f"[{lower[j]:.6g}, {upper[j]:.6g}]; allow some turnover or widen the bounds"
@@ -276,7 +276,7 @@ def _check_held_at_zero(
             if not usable[j]
             else "is outside the names allowed to be held, so it gets weight 0"
         )
-        raise SolverError(
+        raise InfeasibleError(
             f"constituent {j} {why}, but its bounds [{lower[j]:.6g}, {upper[j]:.6g}] exclude 0; "
             "set its minimum to 0 (or its maximum, if negative) or allow it to be held"
         )

@@ -17,7 +17,7 @@ from trackfit.core.fit import KKT_LIMIT
 from trackfit.core.gram import GramData
 from trackfit.core.limits import Limits, LimitStatus
 from trackfit.core.results import Scaling
-from trackfit.errors import SolverError
+from trackfit.errors import InfeasibleError, SolverError
 
 # Multipliers guessed for weights with no freedom are kept if they satisfy every condition to this.
 _DUAL_TOL = 1e-11
@@ -160,7 +160,7 @@ def solve_limited(
                 if prob.cap == 0.0
                 else "every weight is fixed by equal bounds or by the support"
             )
-            raise SolverError(
+            raise InfeasibleError(
                 f"no weights satisfy these limits together: {why}, and the weights so fixed "
                 f"break {', '.join(broken)}; loosen one of them"
             )
