@@ -122,7 +122,7 @@ _LAYOUT = click.option(
 
 def _say(quiet: bool, only_on_terminal: bool = False):
     """Progress on stderr, or None when quiet (or when stderr is not a terminal, if asked)."""
-    if quiet or (only_on_terminal and not click.get_text_stream("stderr").isatty()):
+    if quiet or (only_on_terminal and not sys.stderr.isatty()):
         return None
     return lambda msg: click.echo(msg, err=True)
 
