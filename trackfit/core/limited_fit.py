@@ -38,7 +38,9 @@ class SearchOptions:
 
 
 FULL_SEARCH = SearchOptions()
-CV_SEARCH = SearchOptions(full_swaps=False, screen=5, forward=False)
+#: For a refit on more rows from the names chosen on fewer: full swaps, no fresh forward selection.
+WARM_SEARCH = SearchOptions(forward=False)
+CV_SEARCH = SearchOptions(full_swaps=False, screen=2, forward=False)
 
 
 def _uses_qp(limits: Limits, l1_ratio: float) -> bool:

@@ -15,7 +15,7 @@ import numpy as np
 from trackfit.core.cv import cross_validate
 from trackfit.core.fit import KKT_LIMIT, equal_weights, fit_ols
 from trackfit.core.folds import ForwardChaining
-from trackfit.core.limited_fit import fit_limited
+from trackfit.core.limited_fit import WARM_SEARCH, fit_limited
 from trackfit.core.limits import NO_LIMITS, Limits
 from trackfit.core.models import ModelSpec
 from trackfit.core.results import CVResult, FittedWeights
@@ -185,7 +185,7 @@ def run_holdout(
         )
         train_fit = fit_limited(Xt, yt, cv.alpha, cv.l1_ratio, limits)
         final_fit = (
-            fit_limited(X, y, cv.alpha, cv.l1_ratio, limits, start=_held(train_fit))
+            fit_limited(X, y, cv.alpha, cv.l1_ratio, limits, start=_held(train_fit), search=WARM_SEARCH)
             if n_holdout
             else train_fit
         )
@@ -196,7 +196,9 @@ def run_holdout(
     if limits.any:  # least squares under the limits: alpha = 0
         ols_train = fit_limited(Xt, yt, 0.0, 0.0, limits)
         ols_final = (
-            fit_limited(X, y, 0.0, 0.0, limits, start=_held(ols_train)) if n_holdout else ols_train
+            fit_limited(X, y, 0.0, 0.0, limits, start=_held(ols_train), search=WARM_SEARCH)
+            if n_holdout
+            else ols_train
         )
     else:
         ols_train = fit_ols(Xt, yt)
