@@ -246,7 +246,10 @@ def describe_plan(job: Job, plan: Plan) -> list[str]:
     lines.append(f"output: {job.output.directory}")
     lines += [f"limit: {line}" for line in _limit_lines(plan.limits)]
     if plan.holdings is not None:
-        lines.append(f"current holdings: {len(plan.holdings.names)} names")
+        held = int((plan.holdings.weights != 0).sum())
+        lines.append(
+            f"current holdings: {held} names held ({len(plan.holdings.names)} listed)"
+        )
     lines += [f"note: {n}" for n in plan.notes]
     lines += [f"warning: {w}" for w in (*data.warnings, *plan.warnings)]
     return lines
