@@ -124,8 +124,10 @@ def _method_statements(
         )
     if n_assets > n_train:
         how = (
-            f"a ridge term of {RIDGE_FOR_UNIQUENESS:g} times the mean diagonal of the "
-            "standardized Gram matrix is added to constrained fits"
+            f"constrained fits with no L2 penalty of their own (lasso, OLS) get a ridge term of "
+            f"{RIDGE_FOR_UNIQUENESS:g} times the mean diagonal of the standardized Gram matrix "
+            "whenever the names they may hold outnumber the rows or are linearly dependent; "
+            "ridge and elastic net are unique already"
             if limits.needs_qp or limits.max_names is not None
             else "the exact lasso and elastic-net solvers return a solution with at most as many "
             "names as rows; ridge and elastic net are unique; OLS is the minimum-norm solution"
