@@ -57,9 +57,10 @@ from sklearn.model_selection import TimeSeriesSplit  # noqa: E402
 from sklearn.preprocessing import StandardScaler  # noqa: E402
 from threadpoolctl import threadpool_info, threadpool_limits  # noqa: E402
 
-from trackfit.core.cv import cross_validate  # noqa: E402
+from trackfit.core.cv import cross_validate, window_bounds  # noqa: E402
 from trackfit.core.fit import fit_penalized  # noqa: E402
 from trackfit.core.folds import ForwardChaining  # noqa: E402
+from trackfit.core.gram import prefix_blocks  # noqa: E402
 from trackfit.core.models import ModelSpec  # noqa: E402
 
 SIZES = {"A": (2520, 500), "B": (750, 2000), "C": (260, 100)}
@@ -386,14 +387,22 @@ def walk_forward(args, targets: Targets) -> None:
         f"{p} constituents ({len(y)} rows) =="
     )
     windows = [prescale(X[e - window : e], y[e - window : e]) for e in ends]
+    spans = [(e - window, e) for e in ends]
 
     def run_trackfit():
+        # As a backtest would call it: the raw series, row blocks built once for every window
+        # (window_bounds + prefix_blocks), each window scaled on its own rows inside
+        # cross_validate and fit_penalized, which is what prescale does for LassoCV.
         gc.collect()
         t0 = time.perf_counter()
+        splitter = ForwardChaining(FOLDS)
+        blocks = prefix_blocks(X, y, window_bounds(spans, splitter))
         out = []
-        for Xw, yw in windows:
+        for start, stop in spans:
+            Xw, yw = X[start:stop], y[start:stop]
             cv = cross_validate(
-                Xw, yw, LASSO, ForwardChaining(FOLDS), count=COUNT, refit_scaling=False
+                Xw, yw, LASSO, splitter, count=COUNT, refit_scaling=False,
+                blocks=blocks, row_offset=start,
             )
             out.append((cv, fit_penalized(Xw, yw, cv.alpha, 1.0)))
         return time.perf_counter() - t0, out, 0
@@ -423,7 +432,8 @@ def walk_forward(args, targets: Targets) -> None:
         float(np.max(np.abs(cv.curves[0].alphas[:COUNT] - m.alphas_) / m.alphas_))
         for _, (cv, _), m in pairs
     )
-    kkt_t = max(kkt_residual(Xw, yw, f.weights, cv.alpha, 1.0) for (Xw, yw), (cv, f), _ in pairs)
+    # coef_std: trackfit's weights in the units of the prescaled window.
+    kkt_t = max(kkt_residual(Xw, yw, f.coef_std, cv.alpha, 1.0) for (Xw, yw), (cv, f), _ in pairs)
     kkt_s = max(kkt_residual(Xw, yw, m.coef_, m.alpha_, 1.0) for (Xw, yw), _, m in pairs)
     notes = sum(len(cv.notes) for _, (cv, _), _ in pairs)
     for side, med, runs, extra in (

@@ -13,7 +13,7 @@ import numpy as np
 
 from trackfit.core.fit import check_accuracy
 from trackfit.core.folds import ForwardChaining
-from trackfit.core.gram import GramData, gram_from_blocks, row_blocks
+from trackfit.core.gram import GramData, RowBlocks, gram_from_blocks, window_grams
 from trackfit.core.grid import extend_grid, penalty_grid
 from trackfit.core.limited_fit import CV_SEARCH, fit_limited_gram
 from trackfit.core.limits import NO_LIMITS, Limits
@@ -21,6 +21,7 @@ from trackfit.core.models import ModelSpec
 from trackfit.core.results import CVCurve, CVResult, Fold, Scaling
 from trackfit.core.scaling import fit_scaling
 from trackfit.core.solvers import PathSolver, default_solver
+from trackfit.core.solvers.threads import single_threaded
 from trackfit.errors import SolverError
 
 RULES = ("min_error", "one_standard_error")
@@ -77,7 +78,9 @@ def _fold_errors(
         check_accuracy(float(np.max(sol.kkt_residuals, initial=0.0)), f"{label}, fold {f + 1}")
         cols = fold.data.columns
         weights = sol.coefs * (fold.scaling.y_scale / fold.scaling.x_scale[cols])
-        active = fold.X_val[:, cols] @ weights.T - fold.y_val[:, None]
+        X_val = fold.X_val if len(cols) == fold.X_val.shape[1] else fold.X_val[:, cols]
+        with single_threaded():  # a few hundred rows: one BLAS thread is faster
+            active = X_val @ weights.T - fold.y_val[:, None]
         errors[:, f] = np.mean(active * active, axis=0)
     return errors
 
@@ -91,6 +94,58 @@ def _curve(l1_ratio: float, alphas: np.ndarray, errors: np.ndarray) -> CVCurve:
         std_error=errors.std(axis=1, ddof=1) / np.sqrt(k),
         fold_errors=errors,
     )
+
+
+def _grid_statistics(X: np.ndarray, y: np.ndarray, scaling: Scaling) -> GramData:
+    """What the lasso and elastic-net grids read of all rows: the standardized ``X'y / n``.
+
+    The Gram field is empty (shape (0, 0)): only for :func:`penalty_grid` with
+    ``l1_ratio > 0``, which never reads it.
+    """
+    columns = np.flatnonzero(scaling.usable)
+    n = len(y)
+    # The arithmetic of standardized_gram, so the grid is the one it gives to the last bit.
+    Xs = X[:, columns] / scaling.x_scale[columns]
+    ys = y / scaling.y_scale
+    with single_threaded():
+        xty = Xs.T @ ys / n
+    yty = float(ys @ ys) / n
+    return GramData(gram=np.zeros((0, 0)), xty=xty, yty=yty, n=n, columns=columns)
+
+
+def _fold_bounds(folds, n: int) -> set[int]:
+    return {0, n} | {b for f in folds for b in (f.train_start, f.train_stop)}
+
+
+def window_bounds(windows, splitter: ForwardChaining) -> np.ndarray:
+    """Row boundaries that let one set of blocks serve the cross-validation of every window.
+
+    Parameters
+    ----------
+    windows : sequence of (int, int)
+        Half-open row ranges ``[start, stop)`` of one series, each to be cross-validated with
+        ``splitter`` (for example the trailing windows of a walk-forward).
+    splitter : ForwardChaining
+
+    Returns
+    -------
+    ndarray of int
+        Increasing boundaries: each window's ends and its folds' training ends.
+
+    Examples
+    --------
+    One pass over the rows, then a cross-validation per window::
+
+        bounds = window_bounds(windows, splitter)
+        blocks = prefix_blocks(X, y, bounds)
+        for start, stop in windows:
+            cv = cross_validate(X[start:stop], y[start:stop], spec, splitter,
+                                blocks=blocks, row_offset=start)
+    """
+    out: set[int] = set()
+    for start, stop in windows:
+        out |= {start + b for b in _fold_bounds(splitter.split(stop - start), stop - start)}
+    return np.array(sorted(out), dtype=int)
 
 
 def cross_validate(
@@ -107,6 +162,8 @@ def cross_validate(
     max_extensions: int = 3,
     refit_scaling: bool = True,
     limits: Limits = NO_LIMITS,
+    blocks: RowBlocks | None = None,
+    row_offset: int = 0,
 ) -> CVResult:
     """Cross-validate one model over its penalty grid(s) and choose a penalty.
 
@@ -133,6 +190,14 @@ def cross_validate(
     limits : Limits
         Mandate limits every fold's fit obeys, as the final fit will (a screened max-names
         search inside folds, see :data:`trackfit.core.limited_fit.CV_SEARCH`).
+    blocks : RowBlocks, optional
+        Statistics of row blocks of a longer series that ``X`` and ``y`` are rows
+        ``[row_offset, row_offset + n_periods)`` of, shared by many windows (a walk-forward):
+        build them once with :func:`trackfit.core.gram.prefix_blocks` on the bounds of
+        :func:`window_bounds`. The results equal those without ``blocks`` up to rounding.
+        Default: built here from ``X`` and ``y``.
+    row_offset : int
+        Position of the first row of ``X`` in the series of ``blocks``.
 
     Returns
     -------
@@ -144,23 +209,42 @@ def cross_validate(
     positive = positive or limits.long_only
     folds = splitter.split(len(y))
     whole_scaling = fit_scaling(X, y)
-    # One pass over the rows: every training window is a run of whole blocks.
-    bounds = sorted({0, len(y)} | {b for f in folds for b in (f.train_start, f.train_stop)})
-    blocks = row_blocks(X, y, bounds)
-    whole = gram_from_blocks(blocks, 0, len(y), whole_scaling)
-    fold_data = []
-    for fold in folds:
-        Xt, yt = X[fold.train_start : fold.train_stop], y[fold.train_start : fold.train_stop]
-        scaling = fit_scaling(Xt, yt) if refit_scaling else whole_scaling
-        fold_data.append(
-            _FoldData(
-                data=gram_from_blocks(blocks, fold.train_start, fold.train_stop, scaling),
-                scaling=scaling,
-                X_val=X[fold.val_start : fold.val_stop],
-                y_val=y[fold.val_start : fold.val_stop],
-            )
+    if blocks is not None and blocks.xtx.shape[1] != X.shape[1]:
+        raise ValueError(
+            f"blocks hold {blocks.xtx.shape[1]} constituents but X has {X.shape[1]}; build "
+            "them on the same columns"
         )
-    del blocks
+    scalings = [
+        fit_scaling(X[f.train_start : f.train_stop], y[f.train_start : f.train_stop])
+        if refit_scaling
+        else whole_scaling
+        for f in folds
+    ]
+    spans = [(f.train_start, f.train_stop) for f in folds]
+    # The grids need the Gram matrix of all rows only for ridge; otherwise X'y alone.
+    whole_gram = 0.0 in spec.l1_ratios
+    if whole_gram:
+        spans.insert(0, (0, len(y)))
+    if blocks is None:
+        # One pass over the rows: every training window is a run of whole blocks.
+        grams = window_grams(X, y, spans, [whole_scaling] * whole_gram + scalings)
+    else:
+        o = int(row_offset)
+        grams = [
+            gram_from_blocks(blocks, o + start, o + stop, scaling)
+            for (start, stop), scaling in zip(spans, [whole_scaling] * whole_gram + scalings)
+        ]
+    whole = grams.pop(0) if whole_gram else _grid_statistics(X, y, whole_scaling)
+    fold_data = [
+        _FoldData(
+            data=data,
+            scaling=scaling,
+            X_val=X[fold.val_start : fold.val_stop],
+            y_val=y[fold.val_start : fold.val_stop],
+        )
+        for fold, scaling, data in zip(folds, scalings, grams)
+    ]
+    del grams
 
     curves, notes = [], []
     for l1_ratio in spec.l1_ratios:
@@ -217,4 +301,4 @@ def cross_validate(
     )
 
 
-__all__ = ["RULES", "Fold", "cross_validate"]
+__all__ = ["RULES", "Fold", "cross_validate", "window_bounds"]

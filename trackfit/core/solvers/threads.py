@@ -17,20 +17,26 @@ import threading
 from contextlib import contextmanager
 from typing import Iterator
 
-from threadpoolctl import threadpool_limits
+from threadpoolctl import ThreadpoolController
 
 _lock = threading.Lock()
 _depth = 0
 _limiter = None
+# Finding the loaded libraries took 1.3 ms per call on the benchmark machine, more than many
+# whole fits of the test suite; a controller made once (numpy's and scipy's BLAS are loaded
+# by then: the solvers import scipy) sets and restores limits in 0.02 ms.
+_controller: ThreadpoolController | None = None
 
 
 @contextmanager
 def single_threaded() -> Iterator[None]:
     """Limit BLAS to one thread inside the block (re-entrant: only the outermost acts)."""
-    global _depth, _limiter
+    global _depth, _limiter, _controller
     with _lock:
         if _depth == 0:
-            _limiter = threadpool_limits(limits=1, user_api="blas")
+            if _controller is None:
+                _controller = ThreadpoolController()
+            _limiter = _controller.limit(limits=1, user_api="blas")
         _depth += 1
     try:
         yield
