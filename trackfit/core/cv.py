@@ -15,7 +15,7 @@ from trackfit.core.fit import check_accuracy
 from trackfit.core.folds import ForwardChaining
 from trackfit.core.gram import GramData, RowBlocks, gram_from_blocks, window_grams
 from trackfit.core.grid import extend_grid, penalty_grid
-from trackfit.core.limited_fit import CV_SEARCH, fit_limited_gram
+from trackfit.core.limited_fit import CV_SEARCH, fit_limited_gram, needs_limited_engine
 from trackfit.core.limits import NO_LIMITS, Limits
 from trackfit.core.models import ModelSpec
 from trackfit.core.results import CVCurve, CVResult, Fold, Scaling
@@ -25,12 +25,6 @@ from trackfit.core.solvers.threads import single_threaded
 from trackfit.errors import SolverError
 
 RULES = ("min_error", "one_standard_error")
-
-
-def _needs_limited(limits: Limits, l1_ratio: float) -> bool:
-    """True unless the only limit is long-only on lasso or elastic net (the positive path)."""
-    pure_long_only = limits.long_only and not limits.needs_qp and limits.max_names is None
-    return not (pure_long_only and limits.min_position is None and l1_ratio > 0)
 
 
 @dataclass(frozen=True)
@@ -69,7 +63,7 @@ def _fold_errors(
 ) -> np.ndarray:
     """Validation mean squared active return, shape (n_alphas, n_folds)."""
     if limits.any:
-        if _needs_limited(limits, l1_ratio):
+        if needs_limited_engine(limits, l1_ratio):
             return _limited_fold_errors(folds, alphas, l1_ratio, limits)
         positive = True
     errors = np.empty((len(alphas), len(folds)))

@@ -43,8 +43,15 @@ WARM_SEARCH = SearchOptions(forward=False)
 CV_SEARCH = SearchOptions(full_swaps=False, screen=2, forward=False)
 
 
-def _uses_qp(limits: Limits, l1_ratio: float) -> bool:
-    return limits.needs_qp or (limits.long_only and l1_ratio == 0.0)
+def needs_limited_engine(limits: Limits, l1_ratio: float) -> bool:
+    """True when a fit needs the QP engine or the name search, False when the exact path
+    engine suffices (no limits, or long-only alone on lasso or elastic net)."""
+    return bool(
+        limits.needs_qp
+        or (limits.long_only and l1_ratio == 0.0)
+        or limits.max_names is not None
+        or limits.min_position is not None
+    )
 
 
 def _count_statuses(weights: np.ndarray, limits: Limits) -> tuple[LimitStatus, ...]:
@@ -118,7 +125,7 @@ def fit_limited_gram(
     p = scaling.usable.size
     refit = _Refitter(data, scaling, alpha, l1_ratio, limits)
     record = None
-    if _uses_qp(limits, l1_ratio) or limits.max_names is not None or limits.min_position is not None:
+    if needs_limited_engine(limits, l1_ratio):
         base = refit.solve(None)
         if base is None:
             raise SolverError(
