@@ -2,12 +2,11 @@
 
 from __future__ import annotations
 
-import json
 from typing import TYPE_CHECKING, Any
 
 import trackfit
 from trackfit.report.caution import CAUTION
-from trackfit.report.summary_json import _plain
+from trackfit.report.summary_json import dump_json
 
 if TYPE_CHECKING:  # the outcome is built in the run layer; only its fields are read here
     from trackfit.backtest_run import BacktestOutcome
@@ -83,4 +82,4 @@ def render_backtest_json(outcome: BacktestOutcome) -> str:
         "notes": list(o.notes),
         "warnings": list(o.warnings),
     }
-    return json.dumps(_plain(tree), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    return dump_json(tree)

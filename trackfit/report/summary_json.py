@@ -70,7 +70,7 @@ def render_summary_json(outcome: FitOutcome) -> str:
         "notes": list(outcome.notes),
         "warnings": list(outcome.warnings),
     }
-    return json.dumps(_plain(tree), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    return dump_json(tree)
 
 
 def _job(job: Job) -> dict[str, Any]:
@@ -188,6 +188,11 @@ def _optional_metrics(metrics: TrackingMetrics | None) -> dict[str, Any] | None:
 def _weights(fit: FittedWeights, names: tuple[str, ...]) -> dict[str, Any]:
     weights = np.asarray(fit.weights, dtype=float)
     return {"weights": dict(zip(names, weights)), "cash": fit.cash}
+
+
+def dump_json(tree: Any) -> str:
+    """The fixed JSON text of a summary tree: indent 2, rounded floats, nan as null, one "\\n"."""
+    return json.dumps(_plain(tree), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
 
 
 def _plain(value: Any) -> Any:
