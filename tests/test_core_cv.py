@@ -256,6 +256,29 @@ def test_cross_validate_when_early_folds_have_fewer_rows_than_names():
     assert np.isfinite(res.curves[0].mean_error).all()
 
 
+@pytest.mark.parametrize("positive", [False, True])
+@pytest.mark.parametrize("seed", [21, 22])
+def test_choice_equals_lassocv_when_folds_have_fewer_rows_than_names(seed, positive):
+    # 5 expanding folds of 60 periods train on 10, 20, 30, 40 and 50 rows of 40 names: p > n in
+    # the first four; the exact path holds at most as many names as rows there.
+    s = factor_sample(seed, 60, 40, noise=0.01)
+    res = cross_validate(
+        s.X, s.y, LASSO, ForwardChaining(5), count=30, refit_scaling=False, positive=positive
+    )
+    curve = res.curves[0]
+    _assert_clear_minimum(curve.mean_error)
+    Xs, ys, y_scale = _prescaled(s.X, s.y)
+    # scikit-learn LassoCV(alphas=our grid, cv=TimeSeriesSplit(5), positive=...) at a tight
+    # tolerance, on the same scaled rows.
+    ref = LassoCV(
+        alphas=curve.alphas, cv=TimeSeriesSplit(5), fit_intercept=False, positive=positive,
+        tol=1e-12, max_iter=1_000_000,
+    ).fit(Xs, ys)
+    np.testing.assert_array_equal(ref.alphas_, curve.alphas)
+    assert res.alpha == ref.alpha_
+    np.testing.assert_allclose(curve.fold_errors / y_scale**2, ref.mse_path_, rtol=1e-6)
+
+
 def test_unknown_rule_is_refused():
     s = factor_sample(0, 60, 5)
     match = r"rule must be one of \('min_error', 'one_standard_error'\); got 'smallest'"
