@@ -23,6 +23,8 @@ _REFRESH = 32
 
 @njit(cache=True, error_model="numpy")
 def lasso_path(G, c, alphas, positive, cap):  # pragma: no cover - compiled; tested via lars.py
+    """:func:`trackfit.core.solvers.lars.lasso_path_gram` on C-contiguous float arrays, at most
+    ``cap`` names held at once; returns ``(coefs, steps, solved)`` as that function does."""
     k, m = c.shape[0], alphas.shape[0]
     coefs = np.zeros((m, k))
     steps = np.zeros(m, dtype=np.int64)
