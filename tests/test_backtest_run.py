@@ -9,7 +9,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from trackfit.backtest_run import output_folder, run_backtest_job
+from trackfit.commands.backtest import run_backtest_job
+from trackfit.commands.output import output_folder
 from trackfit.errors import DataError, JobError
 from trackfit.job import load_job
 

@@ -11,7 +11,7 @@ from click.testing import CliRunner
 from test_backtest_run import JOB, write_small_job
 
 from trackfit.cli import EXIT_LOCKED, EXIT_WARNINGS, main
-from trackfit.lock import LOCK_NAME, lock_text
+from trackfit.commands.lock import LOCK_NAME, lock_text
 
 FILES = ("weights_history.csv", "returns.csv", "report.md", "summary.json")
 FIGURES = ("cumulative.png", "rolling_tracking_error.png", "names_turnover.png")

@@ -17,7 +17,7 @@ from trackfit.errors import DataError
 from trackfit.evaluate.holdout import HoldoutStudy, ModelOutcome
 from trackfit.evaluate.metrics import tracking_metrics
 from trackfit.job import CVSpec, DataSpec, GridSpec, Job, OutputSpec, SeriesRef, WindowSpec
-from trackfit.outcome import FitOutcome
+from trackfit.outcomes.fit import FitOutcome
 from trackfit.report.weights_csv import render_weights_csv
 
 # Invented names; one needs CSV quoting, one is not ASCII.

@@ -8,7 +8,7 @@ import sys
 
 import pytest
 
-from trackfit.lock import LOCK_NAME, OutputLock, OutputLocked, lock_text, parse_lock
+from trackfit.commands.lock import LOCK_NAME, OutputLock, OutputLocked, lock_text, parse_lock
 
 
 def _dead_pid() -> int:

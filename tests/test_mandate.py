@@ -12,7 +12,7 @@ import pytest
 from trackfit.core.limits import GroupLimit, Limits
 from trackfit.errors import DataError, JobError
 from trackfit.job import load_job
-from trackfit.mandate import build_limits
+from trackfit.commands.mandate import build_limits
 
 # Invented constituents of an invented index.
 NAMES = ("kestrel_minerals", "harbour_gas", "reef_bank", "tidewater_power", "lumen_telecom")

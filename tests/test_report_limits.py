@@ -20,7 +20,7 @@ from trackfit.core.limits import GroupLimit, Limits, LimitStatus
 from trackfit.core.results import SupportSearch
 from trackfit.evaluate.trades import TradeList, trades
 from trackfit.job import Bounds, GroupsSpec, HoldingsSpec, LimitsSpec
-from trackfit.outcome import FitOutcome
+from trackfit.outcomes.fit import FitOutcome
 from trackfit.report import render_markdown, render_summary_json, render_weights_csv, write_reports
 from trackfit.report.markdown import HEADINGS
 from trackfit.report.limit_labels import status_name, status_words

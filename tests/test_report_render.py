@@ -33,7 +33,7 @@ from trackfit.job import (
     SeriesRef,
     WindowSpec,
 )
-from trackfit.outcome import FitOutcome
+from trackfit.outcomes.fit import FitOutcome
 from trackfit.report import (
     render_markdown,
     render_summary_json,

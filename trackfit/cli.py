@@ -1,4 +1,4 @@
-"""The command line: parse, call the run layer, turn errors into exit codes.
+"""The command line: parse, call one function of :mod:`trackfit.commands`, turn errors into exit codes.
 
 Exit codes: 0 success; 1 success, but the weights were produced with warnings (printed on
 stderr unless --quiet, and kept in the report); 2 the job, the data or the command line needs
@@ -18,22 +18,13 @@ from pathlib import Path
 import click
 
 from trackfit import __version__
-from trackfit.backtest_run import (
-    BACKENDS,
-    LAYOUTS,
-    default_backtest_folder,
-    output_folder,
-    resolve_as_of,
-    run_backtest_job,
-)
-from trackfit.diffing import FORMATS, diff_weights
+from trackfit.commands.backtest import BACKENDS, run_backtest_command
+from trackfit.commands.check import run_check
+from trackfit.commands.diff import FORMATS, run_diff
+from trackfit.commands.fit import run_fit
+from trackfit.commands.lock import OutputLocked
+from trackfit.commands.output import LAYOUTS, Written
 from trackfit.errors import InfeasibleError, SolverError, TrackfitError
-from trackfit.job import load_job
-from trackfit.lock import OutputLock, OutputLocked
-from trackfit.report.backtest_files import write_backtest_reports
-from trackfit.report.diff_render import RENDERERS
-from trackfit.report.files import atomic_write_text
-from trackfit.run import describe_plan, fit_job, plan_fit
 
 EXIT_WARNINGS = 1
 EXIT_INPUT = 2
@@ -150,23 +141,19 @@ def _warnings_exit(default: bool):
     )
 
 
-def _finish(warnings, paths, quiet: bool, warnings_exit: bool) -> int:
+def _finish(written: Written, quiet: bool, warnings_exit: bool) -> int:
     """Print the warnings (unless quiet) and the paths; the exit code of a successful run."""
     if not quiet:
-        for w in warnings:
+        for w in written.warnings:
             click.echo(f"warning: {w}", err=True)
-    for p in paths:
+    for p in written.paths:
         click.echo(str(p))
-    return EXIT_WARNINGS if warnings and warnings_exit else 0
+    return EXIT_WARNINGS if written.warnings and warnings_exit else 0
 
 
-def _locked(root: Path, quiet: bool, work):
-    """Run ``work()`` holding the lock on ``root``; a stale lock taken over is reported."""
-    with OutputLock(root) as lock:
-        if not quiet:
-            for w in lock.warnings:
-                click.echo(f"warning: {w}", err=True)
-        return work()
+def _notify(quiet: bool):
+    """Where a stale lock taken over is said: stderr, unless quiet."""
+    return None if quiet else (lambda msg: click.echo(f"warning: {msg}", err=True))
 
 
 @main.command()
@@ -201,21 +188,10 @@ def fit(
     The paths of the files written are printed on stdout, one per line. Exit code 1 means the
     files were written but with warnings (--no-warnings-exit makes that 0).
     """
-    progress = _say(quiet)
-
     def work():
-        spec = load_job(job)
-        root = out_dir or spec.output.directory
-
-        def locked():
-            folder = root if layout == "fixed" else output_folder(
-                root, layout, resolve_as_of(spec, as_of))
-            outcome, paths = fit_job(
-                spec, as_of=as_of, out_dir=folder, progress=progress, figures=figures
-            )
-            return _finish(outcome.warnings, paths, quiet, warnings_exit)
-
-        return _locked(root, quiet, locked)
+        written = run_fit(job, as_of=as_of, out_dir=out_dir, layout=layout, figures=figures,
+                          progress=_say(quiet), notify=_notify(quiet))
+        return _finish(written, quiet, warnings_exit)
 
     ctx.exit(_guarded(work))
 
@@ -281,20 +257,13 @@ def backtest(
     job's backtest section. The paths of the files written are printed on stdout. Progress
     goes to stderr when it is a terminal.
     """
-    progress = _say(quiet, only_on_terminal=True)
-
     def work():
-        spec = load_job(job)
-        root = out_dir or default_backtest_folder(spec)
-
-        def locked():
-            outcome = run_backtest_job(spec, as_of=as_of, n_jobs=n_jobs, backend=backend,
-                                       scheduler=scheduler, progress=progress)
-            folder = output_folder(root, layout, as_of or outcome.as_of)
-            paths = write_backtest_reports(outcome, folder, figures=figures)
-            return _finish(outcome.warnings, paths, quiet, warnings_exit)
-
-        return _locked(root, quiet, locked)
+        written = run_backtest_command(
+            job, as_of=as_of, out_dir=out_dir, layout=layout, n_jobs=n_jobs, backend=backend,
+            scheduler=scheduler, figures=figures, progress=_say(quiet, only_on_terminal=True),
+            notify=_notify(quiet),
+        )
+        return _finish(written, quiet, warnings_exit)
 
     ctx.exit(_guarded(work))
 
@@ -318,12 +287,8 @@ def diff(old: Path, new: Path, fmt: str, out_file: Path | None) -> None:
     """
 
     def work():
-        text = RENDERERS[fmt](diff_weights(old, new))
-        if out_file is None:
-            click.echo(text, nl=False)
-        else:
-            atomic_write_text(out_file, text)
-            click.echo(str(out_file))
+        text = run_diff(old, new, fmt=fmt, out_file=out_file)
+        click.echo(text if out_file is None else f"{out_file}\n", nl=False)
 
     _guarded(work)
 
@@ -335,8 +300,7 @@ def check(job: Path, as_of: date | None) -> None:
     """Validate the job and its data and say what would be fitted; write nothing."""
 
     def work():
-        spec = load_job(job)
-        for line in describe_plan(spec, plan_fit(spec, as_of)):
+        for line in run_check(job, as_of=as_of):
             click.echo(line)
 
     _guarded(work)

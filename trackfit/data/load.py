@@ -10,13 +10,15 @@ from trackfit.data.calendar import MIN_DATES, infer_periods_per_year
 from trackfit.data.checks import check_finite, check_positive_prices, missing_by_column
 from trackfit.data.dataset import DataStep, TrackingData
 from trackfit.data.returns import per_period_rate, percent_to_decimal, simple_returns
-from trackfit.data.series import align_series
+from trackfit.data.series import AlignedSeries, align_series
 from trackfit.data.window import select_window
 from trackfit.errors import DataError
 from trackfit.job import Job
 
 
-def load_tracking_data(job: Job, as_of: date | None = None) -> TrackingData:
+def load_tracking_data(
+    job: Job, as_of: date | None = None, *, aligned: AlignedSeries | None = None
+) -> TrackingData:
     """Read, align and clean the job's series over its fit window.
 
     In order: read each file once and pick the job's columns; keep the dates common to all
@@ -30,6 +32,9 @@ def load_tracking_data(job: Job, as_of: date | None = None) -> TrackingData:
     job : Job
     as_of : date or None
         Last date the window may use; None means the last date common to all files.
+    aligned : AlignedSeries, optional
+        The job's series already read and aligned by :func:`align_series` (so a caller that
+        needs them too reads the files once); default: read them here.
 
     Returns
     -------
@@ -42,7 +47,7 @@ def load_tracking_data(job: Job, as_of: date | None = None) -> TrackingData:
         With the file, column and date concerned and what to change.
     """
     spec = job.data
-    aligned = align_series(job)
+    aligned = align_series(job) if aligned is None else aligned
     steps = list(aligned.steps)
     n_assets = len(aligned.names)
     n_priced = 1 + n_assets  # benchmark and constituents; the risk-free column is a rate

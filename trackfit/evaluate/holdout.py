@@ -12,15 +12,23 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from trackfit.core.cv import cross_validate
-from trackfit.core.fit import KKT_LIMIT, equal_weights, fit_ols
-from trackfit.core.folds import ForwardChaining
-from trackfit.core.limited_fit import WARM_SEARCH, fit_limited
+from trackfit.core.limited_fit import WARM_SEARCH
 from trackfit.core.limits import NO_LIMITS, Limits
 from trackfit.core.models import ModelSpec
 from trackfit.core.results import CVResult, FittedWeights
 from trackfit.core.solvers import PathSolver
 from trackfit.evaluate.metrics import TrackingMetrics, tracking_metrics
+from trackfit.evaluate.recipe import (
+    BASELINES,
+    Model,
+    StudyDesign,
+    choose_penalty,
+    fit_model,
+    fit_warnings,
+    held_support,
+)
+
+__all__ = ["HoldoutStudy", "ModelOutcome", "StudyDesign", "run_holdout"]
 
 
 @dataclass(frozen=True)
@@ -72,27 +80,6 @@ class HoldoutStudy:
     warnings: tuple[str, ...]
 
 
-@dataclass(frozen=True)
-class StudyDesign:
-    """How penalties are chosen: the folds, the selection rule and the grid."""
-
-    splitter: ForwardChaining
-    rule: str = "min_error"
-    count: int = 100
-    min_ratio: float = 1e-3
-
-
-def _held(fit: FittedWeights) -> np.ndarray | None:
-    """The names a capped fit chose, as a start for the next search (None when uncapped)."""
-    return fit.weights != 0 if fit.search is not None else None
-
-
-def _dropped_names(fit: FittedWeights, names: Sequence[str]) -> list[str]:
-    if fit.scaling is None:
-        return []
-    return [names[i] for i in np.flatnonzero(~fit.scaling.usable)]
-
-
 def run_holdout(
     X: np.ndarray,
     y: np.ndarray,
@@ -134,85 +121,46 @@ def run_holdout(
 
     uncapped_limits = replace(limits, max_names=None)
 
-    def uncapped(alpha, l1_ratio):
-        """In-sample and holdout metrics of the same model without the name cap."""
-        if limits.max_names is None:
-            return {}
-        fit = fit_limited(Xt, yt, alpha, l1_ratio, uncapped_limits)
-        return {
-            "uncapped_in_sample": on_rows(fit, Xt, yt),
-            "uncapped_holdout": on_rows(fit, Xh, yh) if n_holdout else None,
-        }
-
-    def judge(name, kind, cv, train_fit, final_fit, extra=None):
-        w = train_fit.weights
-        holdout = on_rows(train_fit, Xh, yh) if n_holdout else None
-        for fit, rows in ((train_fit, "the rows before the holdout"), (final_fit, "the whole window")):
-            dropped = _dropped_names(fit, names)
-            if dropped:
-                warnings.append(
-                    f"{name}: left out {', '.join(dropped)}: zero variance on {rows}"
-                )
-        if kind not in ("ols", "equal_weight") and not np.any(final_fit.weights):
-            warnings.append(
-                f"{name}: the chosen penalty holds no names (all cash); the benchmark may be "
-                "unrelated to the constituents over this window"
-            )
+    def study(model: Model) -> ModelOutcome:
+        cv = choose_penalty(Xt, yt, model, design, limits, solver=solver)
+        train_fit = fit_model(Xt, yt, model, cv, limits)
+        final_fit = (
+            fit_model(X, y, model, cv, limits, start=held_support(train_fit), search=WARM_SEARCH)
+            if n_holdout
+            else train_fit
+        )
+        warnings.extend(
+            fit_warnings(model, train_fit, names, "the rows before the holdout", held=False)
+        )
+        warnings.extend(fit_warnings(model, final_fit, names, "the whole window", held=True))
+        extra = {}
+        if limits.max_names is not None and model.kind != "equal_weight":
+            # The same model at the same penalty without the name cap: what the cap costs.
+            free = fit_model(Xt, yt, model, cv, uncapped_limits)
+            extra = {
+                "uncapped_in_sample": on_rows(free, Xt, yt),
+                "uncapped_holdout": on_rows(free, Xh, yh) if n_holdout else None,
+            }
         return ModelOutcome(
-            name=name,
-            kind=kind,
+            name=model.name,
+            kind=model.kind,
             cv=cv,
             train_fit=train_fit,
             in_sample=on_rows(train_fit, Xt, yt),
-            holdout=holdout,
+            holdout=on_rows(train_fit, Xh, yh) if n_holdout else None,
             final_fit=final_fit,
-            **(extra or {}),
+            **extra,
         )
 
     outcomes = []
     for spec in specs:
         say(f"cross-validating {spec.name} over {design.splitter.n_folds} folds")
-        cv = cross_validate(
-            Xt,
-            yt,
-            spec,
-            design.splitter,
-            rule=design.rule,
-            count=design.count,
-            min_ratio=design.min_ratio,
-            solver=solver,
-            limits=limits,
-        )
-        train_fit = fit_limited(Xt, yt, cv.alpha, cv.l1_ratio, limits)
-        final_fit = (
-            fit_limited(X, y, cv.alpha, cv.l1_ratio, limits, start=_held(train_fit), search=WARM_SEARCH)
-            if n_holdout
-            else train_fit
-        )
-        extra = uncapped(cv.alpha, cv.l1_ratio)
-        outcomes.append(judge(spec.name, spec.kind, cv, train_fit, final_fit, extra))
-
+        outcomes.append(study(Model.of(spec)))
     say("fitting the OLS and equal-weight baselines")
-    if limits.any:  # least squares under the limits: alpha = 0
-        ols_train = fit_limited(Xt, yt, 0.0, 0.0, limits)
-        ols_final = (
-            fit_limited(X, y, 0.0, 0.0, limits, start=_held(ols_train), search=WARM_SEARCH)
-            if n_holdout
-            else ols_train
-        )
-    else:
-        ols_train = fit_ols(Xt, yt)
-        ols_final = fit_ols(X, y) if n_holdout else ols_train
-    for fit in (ols_train, ols_final):
-        if fit.kkt_residual > KKT_LIMIT:
-            warnings.append(
-                f"ols: the normal equations hold only to {fit.kkt_residual:.1e}; the "
-                "constituents are nearly collinear, so the OLS weights are unreliable"
-            )
-            break
-    outcomes.append(judge("ols", "ols", None, ols_train, ols_final, uncapped(0.0, 0.0)))
-    equal = equal_weights(X.shape[1])
-    outcomes.append(judge("equal_weight", "equal_weight", None, equal, equal))
+    outcomes.extend(study(Model.baseline(name)) for name in BASELINES)
     return HoldoutStudy(
-        n_train=n_train, n_holdout=n_holdout, models=tuple(outcomes), warnings=tuple(warnings)
+        n_train=n_train,
+        n_holdout=n_holdout,
+        models=tuple(outcomes),
+        warnings=tuple(dict.fromkeys(warnings)),
     )

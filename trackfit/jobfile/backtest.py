@@ -1,25 +1,29 @@
 """Parser for the ``backtest`` section: the rebalance schedule, the fit window, holding and costs.
 
 Names in ``backtest.cost_bps`` are kept as written; whether they are constituents is checked
-when the data are known (:mod:`trackfit.backtest_run`).
+when the data are known (:mod:`trackfit.commands.backtest`).
 """
 
 from __future__ import annotations
 
+import math
 from typing import Any
 
-from trackfit.evaluate.backtest import MODES
-from trackfit.evaluate.schedule import EVERY
 from trackfit.jobfile.checks import Reader
 from trackfit.jobfile.specs import BacktestSpec, WindowSpec
 
+# The schedule (trackfit.evaluate.schedule) and the simulation (trackfit.evaluate.backtest)
+# implement exactly these words; the job reader keeps its own list so that it needs nothing of
+# the evaluation layer, and tests/test_layers.py checks that the lists agree.
+EVERY = ("month_end", "week_end", "periods")
+MODES = ("buy_and_hold", "constant_mix")
 WINDOWS = ("rolling", "expanding")
 #: Key of the fallback cost in a per-name ``cost_bps`` mapping.
 DEFAULT_COST = "default"
 #: A cost above this many basis points (10 %) per unit traded is far more likely a typo.
 MAX_COST_BPS = 1000.0
 
-_KEYS = ("every", "periods", "start", "end", "window", "mode", "cost_bps")
+_KEYS = ("every", "periods", "start", "end", "window", "mode", "cost_bps", "memory_mb")
 
 
 def parse_backtest(r: Reader, value: Any, window: WindowSpec) -> BacktestSpec | None:
@@ -58,6 +62,9 @@ def parse_backtest(r: Reader, value: Any, window: WindowSpec) -> BacktestSpec | 
         mode=r.choice("backtest.mode", s.get("mode"), MODES, BacktestSpec.mode),
         cost_bps=flat,
         cost_bps_names=names,
+        memory_mb=(BacktestSpec.memory_mb if s.get("memory_mb") is None
+                   else r.number("backtest.memory_mb", s["memory_mb"], 1.0, math.inf,
+                                 "a number of MiB of at least 1, such as 1024")),
     )
 
 

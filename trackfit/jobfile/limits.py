@@ -1,7 +1,7 @@
 """Parsers for ``limits`` (the mandate) and ``holdings`` (what is held now, and turnover).
 
 Names and group labels are kept as written; whether they exist among the constituents or in
-the groups file is checked when the data are known (:mod:`trackfit.mandate`). Every bound is a
+the groups file is checked when the data are known (:mod:`trackfit.commands.mandate`). Every bound is a
 decimal weight (0.05 = 5 %).
 """
 

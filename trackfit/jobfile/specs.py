@@ -160,3 +160,4 @@ class BacktestSpec:
     mode: str = "buy_and_hold"  # "buy_and_hold" | "constant_mix"
     cost_bps: float = 0.0  # flat cost per unit of value traded, in basis points
     cost_bps_names: tuple[tuple[str, float], ...] = ()  # per-name overrides of ``cost_bps``
+    memory_mb: float = 1024.0  # cap on the row-block statistics shared by all rebalances

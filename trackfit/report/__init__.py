@@ -10,7 +10,7 @@ from collections.abc import Callable
 from functools import partial
 from pathlib import Path
 
-from trackfit.outcome import FitOutcome
+from trackfit.outcomes.fit import FitOutcome
 from trackfit.report import plots
 from trackfit.report.files import atomic_write_bytes, atomic_write_text
 from trackfit.report.markdown import render_markdown

@@ -4,14 +4,12 @@ from __future__ import annotations
 
 import csv
 import io
-from typing import TYPE_CHECKING
 
 from trackfit.report.held import CASH_NAME
 from trackfit.report.numbers import fixed, iso_date
 from trackfit.report.weights_csv import WEIGHT_FORMAT
+from trackfit.outcomes.backtest import BacktestOutcome
 
-if TYPE_CHECKING:  # the outcome is built in the run layer; only its fields are read here
-    from trackfit.backtest_run import BacktestOutcome
 
 #: Fixed format of every return in returns.csv.
 RETURN_FORMAT = ".10f"

@@ -2,14 +2,13 @@
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 import trackfit
 from trackfit.report.caution import CAUTION
 from trackfit.report.summary_json import dump_json
+from trackfit.outcomes.backtest import BacktestOutcome
 
-if TYPE_CHECKING:  # the outcome is built in the run layer; only its fields are read here
-    from trackfit.backtest_run import BacktestOutcome
 
 
 def render_backtest_json(outcome: BacktestOutcome) -> str:

@@ -3,15 +3,13 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import TYPE_CHECKING
 
 from trackfit.report.caution import CAUTION
 from trackfit.report.markdown import figures_section
 from trackfit.report.numbers import fixed, iso_date, percent
 from trackfit.report.tables import inline, table
+from trackfit.outcomes.backtest import BacktestOutcome
 
-if TYPE_CHECKING:  # the outcome is built in the run layer; only its fields are read here
-    from trackfit.backtest_run import BacktestOutcome
 
 #: Section headings, in the order they appear.
 HEADINGS = (

@@ -8,12 +8,10 @@ from __future__ import annotations
 import csv
 import io
 import json
-from typing import TYPE_CHECKING
 
 from trackfit.report.numbers import fixed, json_number
+from trackfit.outcomes.diff import WeightsDiff
 
-if TYPE_CHECKING:  # built in the run layer; only its fields are read here
-    from trackfit.diffing import WeightsDiff
 
 #: Weights and changes in CSV and JSON: as many decimals as weights.csv.
 DIFF_FORMAT = ".10f"

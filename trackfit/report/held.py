@@ -6,7 +6,7 @@ import numpy as np
 
 from trackfit.errors import DataError, SolverError
 from trackfit.evaluate.holdout import ModelOutcome
-from trackfit.outcome import FitOutcome
+from trackfit.outcomes.fit import FitOutcome
 
 #: Name of the last row of weights.csv; no constituent may use it.
 CASH_NAME = "(cash)"

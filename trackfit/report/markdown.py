@@ -11,7 +11,7 @@ import numpy as np
 from trackfit.core.results import CVCurve, CVResult, Fold
 from trackfit.evaluate.holdout import ModelOutcome
 from trackfit.evaluate.metrics import TrackingMetrics
-from trackfit.outcome import FitOutcome
+from trackfit.outcomes.fit import FitOutcome
 from trackfit.report.caution import CAUTION
 from trackfit.report.held import held_model, held_weights
 from trackfit.report.markdown_limits import HEADING as LIMITS_HEADING

@@ -13,7 +13,7 @@ from trackfit.evaluate.holdout import ModelOutcome
 from trackfit.evaluate.metrics import TrackingMetrics
 from trackfit.evaluate.trades import TradeList
 from trackfit.job import Bounds
-from trackfit.outcome import FitOutcome
+from trackfit.outcomes.fit import FitOutcome
 from trackfit.report.held import held_model
 from trackfit.report.limit_labels import (
     COUNT_KINDS,

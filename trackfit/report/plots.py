@@ -25,7 +25,7 @@ from trackfit.report.held import held_model, held_weights
 
 if TYPE_CHECKING:
     from trackfit.evaluate.holdout import ModelOutcome
-    from trackfit.outcome import FitOutcome
+    from trackfit.outcomes.fit import FitOutcome
 
 #: The eight bytes every PNG file starts with.
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"

@@ -15,7 +15,7 @@ from trackfit.data.dataset import TrackingData
 from trackfit.evaluate.holdout import ModelOutcome
 from trackfit.evaluate.metrics import TrackingMetrics
 from trackfit.job import Job
-from trackfit.outcome import FitOutcome
+from trackfit.outcomes.fit import FitOutcome
 from trackfit.report.caution import CAUTION
 from trackfit.report.held import held_weights
 from trackfit.report.numbers import iso_date, json_number, row_dates

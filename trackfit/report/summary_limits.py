@@ -13,7 +13,7 @@ from trackfit.core.limits import Limits, LimitStatus
 from trackfit.core.results import SupportSearch
 from trackfit.evaluate.trades import TradeList
 from trackfit.job import Bounds, HoldingsSpec, LimitsSpec
-from trackfit.outcome import FitOutcome
+from trackfit.outcomes.fit import FitOutcome
 from trackfit.report.held import held_model
 from trackfit.report.limit_labels import status_name, trade_counts
 from trackfit.report.paths import relative_path

@@ -5,7 +5,7 @@ from __future__ import annotations
 import csv
 import io
 
-from trackfit.outcome import FitOutcome
+from trackfit.outcomes.fit import FitOutcome
 from trackfit.report.held import CASH_NAME, held_weights
 from trackfit.report.numbers import fixed
 

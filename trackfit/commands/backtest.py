@@ -1,10 +1,12 @@
-"""``trackfit backtest`` without the command line: job + data -> walk-forward fits -> files.
+"""``trackfit backtest``: walk the job forward, refit at every rebalance, hold, measure.
 
-At each rebalance date the held model is fitted exactly as ``trackfit fit`` chooses it
-(time-ordered cross-validation with the job's folds, rule and grid, then the fit at the chosen
-penalty, under the mandate limits) on the rows of the backtest window up to that date, with no
-holdout: the returns after the date are the out-of-sample test. The weights are then held
-(:func:`trackfit.evaluate.backtest.run_backtest`) until the next rebalance.
+At each rebalance date the held model goes through the same recipe as ``trackfit fit``
+(:mod:`trackfit.evaluate.recipe`: time-ordered cross-validation with the job's folds, rule and
+grid, then the fit at the chosen penalty, under the mandate limits) on the rows of its window up
+to that date, with no holdout: the returns after the date are the out-of-sample test. The
+weights are then held (:func:`trackfit.evaluate.backtest.run_backtest`) until the next
+rebalance. The statistics of the row blocks that all rebalance windows and their folds are made
+of are computed once and shared, within a memory cap.
 """
 
 from __future__ import annotations
@@ -16,132 +18,26 @@ from pathlib import Path
 
 import numpy as np
 
-from trackfit.core.constrained import check_feasible
-from trackfit.core.cv import cross_validate
-from trackfit.core.fit import equal_weights, fit_ols
+from trackfit.commands.output import Notify, Written, output_folder, with_lock
+from trackfit.commands.prepare import Prepared, day, design_statements, prepare
+from trackfit.core.cv import window_bounds
 from trackfit.core.folds import ForwardChaining
-from trackfit.core.limited_fit import fit_limited
+from trackfit.core.gram import RowBlocks, prefix_blocks
 from trackfit.core.limits import Limits
-from trackfit.core.models import ModelSpec
 from trackfit.data import TrackingData
-from trackfit.data.load import load_tracking_data
-from trackfit.data.series import align_series
-from trackfit.data.window import select_window
 from trackfit.errors import DataError, JobError, SolverError, TrackfitError
-from trackfit.evaluate.backtest import BacktestResult, RebalanceFit, run_backtest
+from trackfit.evaluate.backtest import run_backtest
+from trackfit.evaluate.recipe import BASELINES, Model, StudyDesign, choose_penalty, fit_model, fit_warnings
 from trackfit.evaluate.schedule import rebalance_rows
-from trackfit.job import BacktestSpec, Job, WindowSpec
-from trackfit.mandate import build_limits
+from trackfit.job import BacktestSpec, Job, load_job
+from trackfit.outcomes.backtest import BacktestOutcome, DatedFit, NameHistory
+from trackfit.report.backtest_files import write_backtest_reports
 
 Progress = Callable[[str], None]
 BACKENDS = ("loky", "dask")
-LAYOUTS = ("fixed", "dated")
 #: Sub-folder of ``output.directory`` a backtest writes to when no --out is given, so it never
 #: overwrites the report.md of ``trackfit fit``.
 BACKTEST_FOLDER = "backtest"
-
-
-@dataclass(frozen=True)
-class DatedFit(RebalanceFit):
-    """A rebalance fit with what the report says about it.
-
-    Attributes
-    ----------
-    window_start : int
-        First row of the fit window (the window is ``[window_start, row]``).
-    notes, warnings : tuple of str
-        Cross-validation notes, and warnings (an all-cash choice, names left out).
-    """
-
-    window_start: int = 0
-    notes: tuple[str, ...] = ()
-    warnings: tuple[str, ...] = ()
-
-
-@dataclass(frozen=True)
-class NameHistory:
-    """How one constituent was held over the backtest.
-
-    Attributes
-    ----------
-    name : str
-    rebalances : int
-        Rebalances whose target weight is nonzero.
-    first, last : date or None
-        First and last rebalance dates with a nonzero target (None if never held).
-    mean_weight : float
-        Mean target weight over all rebalances (zeros included).
-    last_weight : float
-        Target weight at the last rebalance.
-    """
-
-    name: str
-    rebalances: int
-    first: date | None
-    last: date | None
-    mean_weight: float
-    last_weight: float
-
-
-@dataclass(frozen=True)
-class BacktestOutcome:
-    """Everything one ``trackfit backtest`` run produced, handed to the reporter as one value.
-
-    Attributes
-    ----------
-    job : Job
-    spec : BacktestSpec
-        The schedule used (the job's ``backtest`` section or the defaults).
-    data : TrackingData
-        Excess returns over every row the backtest uses.
-    as_of : date
-        Last return date used.
-    model : str
-        The job's ``hold``: the model fitted at each rebalance.
-    result : BacktestResult
-        Rows index ``data.dates``.
-    fits : tuple of DatedFit
-        One per rebalance, in order.
-    dates : ndarray of datetime64[D], shape (n_rebalances,)
-        Rebalance dates.
-    period_dates : ndarray of datetime64[D], shape (m,)
-        Date of each out-of-sample period (``data.dates[first_row + 1:]``).
-    added, dropped : ndarray of int, shape (n_rebalances,)
-        Names whose target became nonzero / became zero at each rebalance (the first: all held
-        / 0).
-    names : tuple of NameHistory
-        Every constituent ever held, most rebalances first, ties by name.
-    cost_bps : ndarray of shape (n_assets,)
-        Cost per unit traded of each name, in basis points.
-    coupled : bool
-        True when each fit started from the previous rebalance's drifted holdings (a turnover
-        penalty or cap).
-    lookback : int or None
-        Rows of a rolling window; None for an expanding one.
-    warnings, notes : tuple of str
-    """
-
-    job: Job
-    spec: BacktestSpec
-    data: TrackingData
-    as_of: date
-    model: str
-    result: BacktestResult
-    fits: tuple[DatedFit, ...]
-    dates: np.ndarray
-    period_dates: np.ndarray
-    added: np.ndarray
-    dropped: np.ndarray
-    names: tuple[NameHistory, ...]
-    cost_bps: np.ndarray
-    coupled: bool
-    lookback: int | None
-    warnings: tuple[str, ...]
-    notes: tuple[str, ...]
-
-
-def _day(value: np.datetime64) -> date:
-    return value.astype("datetime64[D]").item()
 
 
 @dataclass(frozen=True, eq=False)
@@ -155,14 +51,11 @@ class _Fitter:
     y: np.ndarray
     dates: np.ndarray
     names: tuple[str, ...]
-    model: ModelSpec | None  # None for the ols and equal_weight baselines
-    hold: str
-    splitter: ForwardChaining
-    rule: str
-    count: int
-    min_ratio: float
+    model: Model
+    design: StudyDesign
     limits: Limits
     lookback: int | None
+    blocks: RowBlocks | None = None
 
     def __call__(self, row: int, current: np.ndarray | None = None) -> DatedFit:
         lo = 0 if self.lookback is None else row - self.lookback + 1
@@ -172,49 +65,22 @@ class _Fitter:
             limits = replace(limits, current=current, outside_turnover=0.0)
         when = str(self.dates[row])
         try:
-            fit, notes = self._fit(X, y, limits)
+            cv = choose_penalty(
+                X, y, self.model, self.design, limits, blocks=self.blocks, row_offset=lo
+            )
+            fit = fit_model(X, y, self.model, cv, limits)
         except SolverError as exc:
             raise SolverError(f"rebalance {when}: {exc}") from None
-        warnings = []
-        if fit.scaling is not None and not fit.scaling.usable.all():
-            left = [self.names[j] for j in np.flatnonzero(~fit.scaling.usable)]
-            warnings.append(f"rebalance {when}: left out {', '.join(left)}: zero variance on "
-                            "the fit window")
-        if self.model is not None and not np.any(fit.weights):
-            warnings.append(f"rebalance {when}: {self.hold}: the chosen penalty holds no names "
-                            "(all cash)")
+        warnings = fit_warnings(self.model, fit, self.names, "the fit window", held=True)
         return DatedFit(
             weights=fit.weights,
             alpha=fit.alpha,
             l1_ratio=fit.l1_ratio,
             kkt_residual=fit.kkt_residual,
             window_start=lo,
-            notes=tuple(f"rebalance {when}: {n}" for n in notes),
-            warnings=tuple(warnings),
+            notes=tuple(f"rebalance {when}: {n}" for n in (cv.notes if cv else ())),
+            warnings=tuple(f"rebalance {when}: {w}" for w in warnings),
         )
-
-    def _fit(self, X, y, limits):
-        if self.model is None:
-            if self.hold == "equal_weight":
-                return equal_weights(X.shape[1]), ()
-            return (fit_limited(X, y, 0.0, 0.0, limits) if limits.any else fit_ols(X, y)), ()
-        cv = cross_validate(X, y, self.model, self.splitter, rule=self.rule, count=self.count,
-                            min_ratio=self.min_ratio, limits=limits)
-        return fit_limited(X, y, cv.alpha, cv.l1_ratio, limits), cv.notes
-
-
-def resolve_as_of(job: Job, as_of: date | None) -> date:
-    """The as-of date of a run: ``as_of`` when given, else the last date of the fit window."""
-    if as_of is not None:
-        return as_of
-    return _day(load_tracking_data(job, None).dates[-1])
-
-
-def output_folder(root: Path, layout: str, as_of: date) -> Path:
-    """``root`` for the fixed layout, ``root/<YYYY-MM-DD>`` for the dated one."""
-    if layout not in LAYOUTS:
-        raise ValueError(f"layout must be one of {LAYOUTS}; got {layout!r}")
-    return Path(root) if layout == "fixed" else Path(root) / as_of.isoformat()
 
 
 def default_backtest_folder(job: Job) -> Path:
@@ -228,25 +94,6 @@ def _spec(job: Job) -> BacktestSpec:
                        "uses a rolling window of 'window.lookback' rows, but 'window.lookback' is "
                        "not set; set it, or add 'backtest: {window: expanding}'")
     return spec
-
-
-def _load(job: Job, spec: BacktestSpec, as_of: date | None) -> TrackingData:
-    """Excess returns over every row any rebalance window uses, through ``as_of``."""
-    aligned = align_series(job)
-    dates = aligned.dates[1:] if job.data.values == "prices" else aligned.dates
-    stop = select_window(dates, WindowSpec(), as_of).stop
-    lo = 0
-    if spec.window == "expanding" and job.window.start is not None:
-        lo = int(np.searchsorted(dates, np.datetime64(job.window.start, "D")))
-    elif spec.window == "rolling" and spec.start is not None:
-        first = int(np.searchsorted(dates[:stop], np.datetime64(spec.start, "D")))
-        lo = max(0, first - job.window.lookback + 1)
-    if lo >= stop:
-        raise DataError(f"{job.path.name}: no return date between the backtest's first date "
-                        f"and the as-of date {dates[stop - 1]}; move 'backtest.start' or "
-                        "'window.start' earlier, or pass a later --as-of")
-    window = WindowSpec(start=_day(dates[lo]))
-    return load_tracking_data(replace(job, window=window), as_of)
 
 
 def _min_rows(job: Job, splitter: ForwardChaining, lookback: int | None, n: int) -> int:
@@ -347,11 +194,39 @@ def _history(names, dates, targets) -> tuple[np.ndarray, np.ndarray, tuple[NameH
         at = np.flatnonzero(held[:, j])
         if at.size == 0:
             continue
-        out.append(NameHistory(name=name, rebalances=int(at.size), first=_day(dates[at[0]]),
-                               last=_day(dates[at[-1]]), mean_weight=float(targets[:, j].mean()),
+        out.append(NameHistory(name=name, rebalances=int(at.size), first=day(dates[at[0]]),
+                               last=day(dates[at[-1]]), mean_weight=float(targets[:, j].mean()),
                                last_weight=float(targets[-1, j])))
     out.sort(key=lambda h: (-h.rebalances, h.name))
     return added, dropped, tuple(out)
+
+
+def _shared_blocks(
+    data: TrackingData, rows: np.ndarray, lookback: int | None, design: StudyDesign, cap_mb: float
+) -> tuple[RowBlocks | None, str | None]:
+    """Row-block statistics every rebalance window and its folds are runs of, within the cap.
+
+    Returns the blocks, or None and a note saying why each rebalance builds its own.
+    """
+    windows = [(0 if lookback is None else r - lookback + 1, r + 1) for r in rows.tolist()]
+    bounds = window_bounds(windows, design.splitter)
+    p = data.constituents.shape[1]
+    need = len(bounds) * (p * p + p + 1) * 8 / 2**20
+    if need > cap_mb:
+        return None, (
+            f"the statistics shared by every rebalance window would take {need:,.0f} MiB "
+            f"({len(bounds)} row blocks of {p} names), above the cap of {cap_mb:g} MiB "
+            "('backtest.memory_mb'), so each rebalance built its own (slower, same results up "
+            "to rounding)"
+        )
+    return prefix_blocks(data.constituents, data.benchmark, bounds), None
+
+
+def _held_model(job: Job) -> Model:
+    """The job's ``hold``: a listed model or a baseline."""
+    if job.hold in BASELINES:
+        return Model.baseline(job.hold)
+    return Model.of(next(m for m in job.models if m.name == job.hold))
 
 
 def run_backtest_job(
@@ -383,23 +258,19 @@ def run_backtest_job(
     """
     say = progress or (lambda _msg: None)
     spec = _spec(job)
-    data = _load(job, spec, as_of)
-    splitter = ForwardChaining(n_folds=job.cv.folds, min_train=job.cv.min_train, gap=job.cv.gap,
-                               rolling=job.cv.scheme == "rolling")
+    prepared = prepare(job, as_of, backtest=spec)
+    data, limits, design = prepared.data, prepared.limits, prepared.design
     lookback = job.window.lookback if spec.window == "rolling" else None
-    rows = _schedule(job, spec, data, _min_rows(job, splitter, lookback, len(data.dates)))
-    limits, _holdings, limit_warnings = build_limits(job, data.names)
-    try:
-        check_feasible(limits, data.names)
-    except SolverError as exc:
-        raise JobError(f"{job.path.name}: the mandate limits conflict: {exc}") from None
+    least = _min_rows(job, design.splitter, lookback, len(data.dates))
+    rows = _schedule(job, spec, data, least)
     coupled = bool(limits.turnover_penalty) or limits.max_turnover is not None
     bps = _costs(job, spec, data.names)
-    model = next((m for m in job.models if m.name == job.hold), None)
+    model = _held_model(job)
+    blocks, block_note = (None, None)
+    if model.penalized:
+        blocks, block_note = _shared_blocks(data, rows, lookback, design, spec.memory_mb)
     fitter = _Fitter(X=data.constituents, y=data.benchmark, dates=data.dates, names=data.names,
-                     model=model, hold=job.hold, splitter=splitter, rule=job.cv.rule,
-                     count=job.grid.count, min_ratio=job.grid.min_ratio, limits=limits,
-                     lookback=lookback)
+                     model=model, design=design, limits=limits, lookback=lookback, blocks=blocks)
     d = data.dates
     say(f"{len(data.names)} constituents, {len(rows)} rebalances ({d[rows[0]]} to "
         f"{d[rows[-1]]}), {spec.window} window, {job.hold} held")
@@ -429,17 +300,55 @@ def run_backtest_job(
         raise DataError(f"{job.path.name}: backtest: {exc}") from None
     ordered = tuple(fits[r] for r in rows.tolist())
     added, dropped, history = _history(data.names, d[rows], result.targets)
-    notes = []
+    shortest = lookback if lookback is not None else int(rows[0]) + 1
+    design_warnings, notes = design_statements(
+        job, (job.hold,), limits, shortest, len(data.names), rows="rows in the shortest window"
+    )
+    if block_note is not None:
+        notes.append(block_note)
     if job.window.holdout:
         notes.append("'window.holdout' is not used: every backtest fit uses all rows of its "
                      "window up to the rebalance date, and the periods after it are the test")
-    warnings = [*data.warnings, *limit_warnings]
+    warnings = [*prepared.warnings, *design_warnings]
     for f in ordered:
         warnings.extend(f.warnings)
         notes.extend(f.notes)
     return BacktestOutcome(
-        job=job, spec=spec, data=data, as_of=_day(d[-1]), model=job.hold, result=result,
+        job=job, spec=spec, data=data, as_of=day(d[-1]), model=job.hold, result=result,
         fits=ordered, dates=d[rows], period_dates=d[result.first_row + 1:], added=added,
         dropped=dropped, names=history, cost_bps=bps, coupled=coupled, lookback=lookback,
         warnings=tuple(dict.fromkeys(warnings)), notes=tuple(dict.fromkeys(notes)),
     )
+
+
+def run_backtest_command(
+    job_file: Path,
+    *,
+    as_of: date | None = None,
+    out_dir: Path | None = None,
+    layout: str = "fixed",
+    n_jobs: int = 1,
+    backend: str = "loky",
+    scheduler: str | None = None,
+    figures: bool = True,
+    progress: Progress | None = None,
+    notify: Notify | None = None,
+) -> Written:
+    """``trackfit backtest``: read the job, hold the output root's lock, walk forward, write.
+
+    ``out_dir`` defaults to ``<output.directory>/backtest``; with ``layout="dated"`` the files
+    go into ``<out_dir>/<as-of date>/``.
+    """
+    job = load_job(job_file)
+    root = out_dir or default_backtest_folder(job)
+
+    def work() -> Written:
+        outcome = run_backtest_job(
+            job, as_of=as_of, n_jobs=n_jobs, backend=backend, scheduler=scheduler,
+            progress=progress,
+        )
+        folder = output_folder(root, layout, as_of or outcome.as_of)
+        paths = write_backtest_reports(outcome, folder, figures=figures)
+        return Written(paths=tuple(paths), warnings=outcome.warnings)
+
+    return with_lock(root, work, notify)
