@@ -219,6 +219,11 @@ def cross_validate(
     whole_gram = 0.0 in spec.l1_ratios
     if whole_gram:
         spans.insert(0, (0, len(y)))
+        # The ridge grid is read off the Gram of all rows: built from shared blocks it would
+        # round differently from one fit of the same window, and the chosen penalty (so the
+        # weights) would differ in the last bits between a backtest and that fit. Ridge CV
+        # costs its eigendecompositions, not these products, so nothing is lost.
+        blocks = None
     if blocks is None:
         # One pass over the rows: every training window is a run of whole blocks.
         grams = window_grams(X, y, spans, [whole_scaling] * whole_gram + scalings)

@@ -63,8 +63,8 @@ def parse_backtest(r: Reader, value: Any, window: WindowSpec) -> BacktestSpec | 
         cost_bps=flat,
         cost_bps_names=names,
         memory_mb=(BacktestSpec.memory_mb if s.get("memory_mb") is None
-                   else r.number("backtest.memory_mb", s["memory_mb"], 1.0, math.inf,
-                                 "a number of MiB of at least 1, such as 1024")),
+                   else r.number("backtest.memory_mb", s["memory_mb"], 0.0, math.inf,
+                                 "a number of MiB >= 0, such as 1024 (0: never share)")),
     )
 
 
