@@ -5,8 +5,10 @@ from __future__ import annotations
 import importlib.metadata
 
 import pytest
+from click.testing import CliRunner
 
 import trackfit
+from trackfit.cli import main
 
 
 def test_installed_metadata_reads_the_package_version():
@@ -19,10 +21,6 @@ def test_installed_metadata_reads_the_package_version():
 
 
 def test_the_command_line_prints_the_package_version():
-    from click.testing import CliRunner
-
-    from trackfit.cli import main
-
     result = CliRunner().invoke(main, ["--version"])
     assert result.exit_code == 0
     assert result.stdout == f"trackfit, version {trackfit.__version__}\n"
