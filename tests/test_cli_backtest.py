@@ -8,7 +8,7 @@ import os
 import numpy as np
 import pytest
 from click.testing import CliRunner
-from test_backtest_run import JOB, write_small_job
+from jobs import JOB, write_small_job
 
 from trackfit.cli import EXIT_LOCKED, EXIT_WARNINGS, main
 from trackfit.commands.lock import LOCK_NAME, lock_text

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from test_backtest_run import write_small_job
+from jobs import write_small_job
 from trackfit.commands.backtest import run_backtest_job
 from trackfit.commands.fit import fit_plan
 from trackfit.commands.fit_plan import plan_fit

@@ -1,6 +1,6 @@
 """Tests for the mandate-limit parts of the reporter: the report.md section and summary.json.
 
-The FitOutcome extends the hand-built one of test_report_render with invented limits, limit
+The FitOutcome extends the hand-built one of tests/builders.py with invented limits, limit
 statuses, a name-cap search record, uncapped metrics, current holdings and trades, so every
 line the reporter writes is known to the test.
 """
@@ -14,7 +14,10 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from test_report_render import NAMES, N_HOLDOUT, _cells, _metrics, _table_blocks, make_outcome
+from builders import N_HOLDOUT, NAMES, make_outcome
+from builders import tracking_metrics as _metrics
+from markdown_tables import cells as _cells
+from markdown_tables import table_blocks as _table_blocks
 
 from trackfit.core.limits import GroupLimit, Limits, LimitStatus
 from trackfit.core.results import SupportSearch
@@ -22,8 +25,8 @@ from trackfit.evaluate.trades import TradeList, trades
 from trackfit.job import Bounds, GroupsSpec, HoldingsSpec, LimitsSpec
 from trackfit.outcomes.fit import FitOutcome
 from trackfit.report import render_markdown, render_summary_json, render_weights_csv, write_reports
-from trackfit.report.markdown import HEADINGS
 from trackfit.report.limit_labels import status_name, status_words
+from trackfit.report.markdown import HEADINGS
 from trackfit.report.markdown_limits import TRADE_ROWS
 
 INF = np.inf

@@ -1,6 +1,6 @@
 """Tests for the PNG figures and for writing them beside report.md.
 
-The fit figures are drawn from the hand-built FitOutcome of test_report_render; the backtest
+The fit figures are drawn from the hand-built FitOutcome of tests/builders.py; the backtest
 figures from seeded invented returns. What is checked about a PNG file comes from the PNG
 specification (W3C Recommendation "Portable Network Graphics (PNG) Specification", second
 edition, = ISO/IEC 15948): section 5.2 (the 8-byte signature), 5.3 (chunk layout: length,
@@ -18,7 +18,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from test_report_render import NAMES, make_outcome
+from builders import NAMES, make_outcome
 
 from trackfit.report import figure_files, plots, render_markdown, write_reports
 from trackfit.report.markdown import FIGURES_HEADING, FIGURES_SKIPPED, HEADINGS

@@ -1,7 +1,7 @@
 """The max-names search on real data: OR-Library indtrack1 (31 stocks, 291 weekly levels).
 
 Fitting rows: the first 145 of the 290 weekly simple returns. Objective: long-only, fully
-invested least squares, no penalty (``budget_ls`` from test_support). Skipped when the shared
+invested least squares, no penalty (``budget_ls`` from tests/refits.py). Skipped when the shared
 data folder is absent.
 """
 
@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from orlib import orlib_path, read_orlib
-from test_support import budget_ls, budget_refit
+from refits import budget_ls, budget_refit
 
 from trackfit.core.gram import standardized_gram
 from trackfit.core.scaling import fit_scaling
