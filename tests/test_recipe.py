@@ -75,3 +75,21 @@ def test_the_ols_collinearity_warning_names_the_rows_and_reaches_every_caller():
                    for w in words)
     else:  # this machine's LAPACK solved it exactly: then nothing is said
         assert words == []
+
+
+@pytest.mark.parametrize(
+    "value,match",
+    [
+        ("-1", r"'backtest.memory_mb' must be a number of MiB >= 0.*got -1"),
+        ("lots", r"'backtest.memory_mb' must be a number of MiB >= 0.*got 'lots'"),
+        ("true", r"'backtest.memory_mb' must be a number of MiB >= 0"),
+    ],
+)
+def test_memory_mb_must_be_a_number_of_mib(tmp_path, value, match):
+    from trackfit.errors import JobError
+
+    text = JOB.format(hold="lasso", limits="").replace(
+        "start: 2025-07-31}", f"start: 2025-07-31, memory_mb: {value}}}"
+    )
+    with pytest.raises(JobError, match=match):
+        load_job(write_small_job(tmp_path, text))
