@@ -41,7 +41,7 @@ BACKTEST_FOLDER = "backtest"
 
 
 @dataclass(frozen=True, eq=False)
-class _Fitter:
+class RebalanceFitter:
     """``fit_at(row, current)`` for :func:`run_backtest`: the held model on the window to ``row``.
 
     Module level and made of arrays and small dataclasses, so process pools can pickle it.
@@ -201,16 +201,34 @@ def _history(names, dates, targets) -> tuple[np.ndarray, np.ndarray, tuple[NameH
     return added, dropped, tuple(out)
 
 
-def _shared_blocks(
-    data: TrackingData, rows: np.ndarray, lookback: int | None, design: StudyDesign, cap_mb: float
+def shared_blocks(
+    X: np.ndarray,
+    y: np.ndarray,
+    rows: np.ndarray,
+    lookback: int | None,
+    splitter: ForwardChaining,
+    cap_mb: float,
 ) -> tuple[RowBlocks | None, str | None]:
     """Row-block statistics every rebalance window and its folds are runs of, within the cap.
 
-    Returns the blocks, or None and a note saying why each rebalance builds its own.
+    Parameters
+    ----------
+    X : ndarray of shape (n_periods, n_assets)
+    y : ndarray of shape (n_periods,)
+    rows : ndarray of int
+        Rebalance rows; the window of row ``r`` is ``[r - lookback + 1, r]`` (or from 0).
+    cap_mb : float
+        Largest size of the statistics, in MiB.
+
+    Returns
+    -------
+    blocks : RowBlocks or None
+    note : str or None
+        Why each rebalance builds its own statistics, when ``blocks`` is None.
     """
     windows = [(0 if lookback is None else r - lookback + 1, r + 1) for r in rows.tolist()]
-    bounds = window_bounds(windows, design.splitter)
-    p = data.constituents.shape[1]
+    bounds = window_bounds(windows, splitter)
+    p = X.shape[1]
     need = len(bounds) * (p * p + p + 1) * 8 / 2**20
     if need > cap_mb:
         return None, (
@@ -219,7 +237,7 @@ def _shared_blocks(
             "('backtest.memory_mb'), so each rebalance built its own (slower, same results up "
             "to rounding)"
         )
-    return prefix_blocks(data.constituents, data.benchmark, bounds), None
+    return prefix_blocks(X, y, bounds), None
 
 
 def _held_model(job: Job) -> Model:
@@ -268,8 +286,10 @@ def run_backtest_job(
     model = _held_model(job)
     blocks, block_note = (None, None)
     if model.penalized:
-        blocks, block_note = _shared_blocks(data, rows, lookback, design, spec.memory_mb)
-    fitter = _Fitter(X=data.constituents, y=data.benchmark, dates=data.dates, names=data.names,
+        blocks, block_note = shared_blocks(
+            data.constituents, data.benchmark, rows, lookback, design.splitter, spec.memory_mb
+        )
+    fitter = RebalanceFitter(X=data.constituents, y=data.benchmark, dates=data.dates, names=data.names,
                      model=model, design=design, limits=limits, lookback=lookback, blocks=blocks)
     d = data.dates
     say(f"{len(data.names)} constituents, {len(rows)} rebalances ({d[rows[0]]} to "
