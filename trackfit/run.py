@@ -26,6 +26,7 @@ from trackfit.job import Job
 from trackfit.mandate import CurrentHoldings, build_limits
 from trackfit.outcome import FitOutcome
 from trackfit.report import write_reports
+from trackfit.report.limit_labels import linear_words, worded_linear
 
 Progress = Callable[[str], None]
 
@@ -269,6 +270,7 @@ def _limit_lines(limits: Limits) -> list[str]:
     for g in limits.groups:
         out.append(f"group {g.name}: [{g.lower if g.lower is not None else '-'}, "
                    f"{g.upper if g.upper is not None else '-'}]")
+    out += [linear_words(item) for item in worded_linear(limits)]
     if limits.max_names is not None:
         out.append(f"at most {limits.max_names} names")
     if limits.min_position is not None:

@@ -6,7 +6,7 @@ from dataclasses import replace
 
 import numpy as np
 
-from trackfit.core.limits import STATUS_RANK, LimitStatus, Limits, LinearLimit
+from trackfit.core.limits import STATUS_RANK, Limits, LimitStatus, LinearLimit
 
 #: A limit whose slack is within this of 0 (original units) is binding; its slack reads 0.0.
 BINDING = 1e-9
