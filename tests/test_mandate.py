@@ -1,4 +1,4 @@
-"""Tests for trackfit.mandate: job limits and data files -> core Limits over the fit's names."""
+"""Tests for trackfit.commands.mandate: job limits and data files -> core Limits over the fit's names."""
 
 from __future__ import annotations
 

@@ -9,6 +9,7 @@ from trackfit.commands.fit_plan import FitPlan, plan_fit
 from trackfit.commands.prepare import day, prepare
 from trackfit.core.limits import Limits
 from trackfit.job import load_job
+from trackfit.report.limit_labels import linear_words, worded_linear
 
 
 def run_check(job_file: Path, *, as_of: date | None = None) -> list[str]:
@@ -78,6 +79,7 @@ def _limit_lines(limits: Limits) -> list[str]:
     for g in limits.groups:
         out.append(f"group {g.name}: [{g.lower if g.lower is not None else '-'}, "
                    f"{g.upper if g.upper is not None else '-'}]")
+    out += [linear_words(item) for item in worded_linear(limits)]
     if limits.max_names is not None:
         out.append(f"at most {limits.max_names} names")
     if limits.min_position is not None:

@@ -14,7 +14,14 @@ from pathlib import Path
 
 import numpy as np
 
-from trackfit.core.limits import GroupLimit, Limits
+from trackfit.core.limits import (
+    GroupLimit,
+    Limits,
+    LinearLimit,
+    beta_limit,
+    budget_limit,
+    group_limit,
+)
 from trackfit.data.groups import read_groups
 from trackfit.data.holdings import CurrentHoldings, read_holdings
 from trackfit.errors import DataError, JobError
@@ -43,7 +50,8 @@ def build_limits(
         ``lower``/``upper`` of shape (n_assets,) when ``limits.weight`` or ``limits.names`` is
         set (``-inf``/``+inf`` where a name has no bound; lower at least 0 with long-only),
         else None. ``current`` of shape (n_assets,) whenever holdings are given (0 for names
-        not held). Groups in sorted label order.
+        not held). ``linear``: the budget, the groups in sorted label order, then beta to the
+        benchmark (its coefficients computed on the fit rows, see ``Limits.on_rows``).
     holdings : CurrentHoldings or None
         The holdings file as read, when the job names one.
     warnings : tuple of str
@@ -62,14 +70,18 @@ def build_limits(
     index = {name: i for i, name in enumerate(names)}
     warnings: list[str] = []
     lower, upper = _name_bounds(job, index)
-    groups = _group_limits(job, names, index, warnings)
+    # Linear limits in the order of the solver's rows: budget, groups, then the others.
+    linear = (
+        *_budget(job),
+        *(group_limit(g) for g in _group_limits(job, names, index, warnings)),
+        *_beta(job),
+    )
     holdings, current, outside = _current(job, index, warnings)
     limits = Limits(
         long_only=spec.long_only,
-        budget=spec.budget,
         lower=lower,
         upper=upper,
-        groups=groups,
+        linear=linear,
         current=current,
         outside_turnover=outside,
         turnover_penalty=0.0 if job.holdings is None else job.holdings.turnover_penalty,
@@ -109,6 +121,16 @@ def _name_bounds(
         # Long-only already keeps every weight at 0 or above; only positive minimums add to it.
         lower = np.where(lower > 0.0, lower, -np.inf)
     return lower, upper
+
+
+def _budget(job: Job) -> tuple[LinearLimit, ...]:
+    budget = job.limits.budget
+    return () if budget is None else (budget_limit(*budget),)
+
+
+def _beta(job: Job) -> tuple[LinearLimit, ...]:
+    beta = job.limits.beta
+    return () if beta is None else (beta_limit(beta.min, beta.max),)
 
 
 def _group_limits(

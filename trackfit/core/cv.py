@@ -33,10 +33,11 @@ class _FoldData:
     scaling: Scaling
     X_val: np.ndarray
     y_val: np.ndarray
+    limits: Limits = NO_LIMITS  # resolved on the fold's training rows (Limits.on_rows)
 
 
 def _limited_fold_errors(
-    folds: list[_FoldData], alphas: np.ndarray, l1_ratio: float, limits: Limits
+    folds: list[_FoldData], alphas: np.ndarray, l1_ratio: float
 ) -> np.ndarray:
     """As :func:`_fold_errors`, each penalty fitted under the mandate limits."""
     errors = np.empty((len(alphas), len(folds)))
@@ -44,7 +45,7 @@ def _limited_fold_errors(
         start = None
         for i, alpha in enumerate(alphas):
             fit = fit_limited_gram(
-                fold.data, fold.scaling, alpha, l1_ratio, limits, search=CV_SEARCH, start=start
+                fold.data, fold.scaling, alpha, l1_ratio, fold.limits, search=CV_SEARCH, start=start
             )
             start = fit.weights != 0
             active = fold.X_val @ fit.weights - fold.y_val
@@ -64,7 +65,7 @@ def _fold_errors(
     """Validation mean squared active return, shape (n_alphas, n_folds)."""
     if limits.any:
         if needs_limited_engine(limits, l1_ratio):
-            return _limited_fold_errors(folds, alphas, l1_ratio, limits)
+            return _limited_fold_errors(folds, alphas, l1_ratio)
         positive = True
     errors = np.empty((len(alphas), len(folds)))
     for f, fold in enumerate(folds):
@@ -240,6 +241,9 @@ def cross_validate(
             scaling=scaling,
             X_val=X[fold.val_start : fold.val_stop],
             y_val=y[fold.val_start : fold.val_stop],
+            limits=limits.on_rows(
+                X[fold.train_start : fold.train_stop], y[fold.train_start : fold.train_stop]
+            ),
         )
         for fold, scaling, data in zip(folds, scalings, grams)
     ]

@@ -203,6 +203,7 @@ def fit_limited(
         An extra starting support for the max-names search (for example the names chosen on
         fewer rows); forward selection from no names still runs unless ``search`` says not.
     """
+    limits = limits.on_rows(X, y)  # row-dependent limits (beta) on the rows fitted
     if not limits.any:
         return fit_penalized(X, y, alpha, l1_ratio)
     scaling = fit_scaling(X, y)

@@ -20,6 +20,11 @@ FULLY_INVESTED = "fully_invested"
 BOUND_LIMIT = 10.0
 
 _LIMIT_KEYS = ("long_only", "budget", "weight", "names", "groups", "max_names", "min_position")
+# Keys added since: accepted and offered in unknown-key messages, but not listed when
+# 'limits' is not a mapping at all (that message keeps its original wording).
+_LATER_KEYS = ("beta",)
+#: Every bound on beta to the benchmark lies in [-BETA_LIMIT, BETA_LIMIT].
+BETA_LIMIT = 10.0
 _GROUP_KEYS = ("file", "name_column", "group_column", "each", "bounds")
 _HOLDINGS_KEYS = ("file", "turnover_penalty", "max_turnover")
 _SIDES = ("min", "max")
@@ -29,7 +34,8 @@ _IN_RANGE = (f"a number from {-BOUND_LIMIT:g} to {BOUND_LIMIT:g}, in decimal uni
 
 def parse_limits(r: Reader, value: Any) -> LimitsSpec:
     """The ``limits`` section; absent or null means no limits."""
-    s = r.section("limits", value, _LIMIT_KEYS)
+    keys = _LIMIT_KEYS + _LATER_KEYS if isinstance(value, dict) else _LIMIT_KEYS
+    s = r.section("limits", value, keys)
     weight = None if s.get("weight") is None else _bounds(r, "limits.weight", s["weight"])
     names = tuple(
         (name, _override(r, f"limits.names.{name}", bounds, weight))
@@ -44,6 +50,10 @@ def parse_limits(r: Reader, value: Any) -> LimitsSpec:
         max_names=r.integer("limits.max_names", s.get("max_names"), 1, None),
         min_position=(None if s.get("min_position") is None
                       else r.fraction("limits.min_position", s["min_position"])),
+        beta=(None if s.get("beta") is None
+              else _bounds(r, "limits.beta", s["beta"], BETA_LIMIT,
+                           f"a number from {-BETA_LIMIT:g} to {BETA_LIMIT:g} (1 = moves with "
+                           "the benchmark)")),
     )
 
 
@@ -62,7 +72,8 @@ def parse_holdings(r: Reader, value: Any) -> HoldingsSpec | None:
     )
 
 
-def _bounds(r: Reader, key: str, value: Any) -> Bounds:
+def _bounds(r: Reader, key: str, value: Any, limit: float = BOUND_LIMIT,
+            in_range: str = _IN_RANGE) -> Bounds:
     """A ``{min, max}`` mapping with at least one side, each in range, ``min <= max``."""
     must = "a mapping with 'min', 'max' or both, such as {min: 0.0, max: 0.1}"
     if not isinstance(value, dict):
@@ -70,7 +81,7 @@ def _bounds(r: Reader, key: str, value: Any) -> Bounds:
     s = r.section(key, value, _SIDES)
     low, high = (
         None if s.get(side) is None
-        else r.number(f"{key}.{side}", s[side], -BOUND_LIMIT, BOUND_LIMIT, _IN_RANGE)
+        else r.number(f"{key}.{side}", s[side], -limit, limit, in_range)
         for side in _SIDES
     )
     if low is None and high is None:

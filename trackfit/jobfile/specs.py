@@ -116,6 +116,7 @@ class LimitsSpec:
     groups: GroupsSpec | None = None
     max_names: int | None = None
     min_position: float | None = None
+    beta: Bounds | None = None  # bounds on beta to the benchmark over the fit rows
 
 
 @dataclass(frozen=True)

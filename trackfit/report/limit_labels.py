@@ -10,7 +10,7 @@ from collections.abc import Sequence
 
 import numpy as np
 
-from trackfit.core.limits import LimitStatus
+from trackfit.core.limits import Limits, LimitStatus, LinearLimit
 from trackfit.evaluate.trades import TradeList
 
 #: Trade actions in the order reports list them.
@@ -18,6 +18,12 @@ ACTIONS = ("buy", "sell", "new", "dropped", "hold")
 
 #: Status kinds whose bound and value count names rather than measure weight.
 COUNT_KINDS = ("max_names",)
+#: Status kinds whose bound and value are plain numbers (a beta), not weights in percent.
+PLAIN_KINDS = ("beta_min", "beta_max")
+
+#: What each linear limit beyond the budget and the groups bounds, in words (those two have
+#: their own wording, kept from before the limits became one list).
+LINEAR_WORDS = {"beta": "beta to the benchmark"}
 
 #: For each status kind: what is limited (``{}`` takes the constituent or group name) and
 #: which side the bound is on.
@@ -29,6 +35,8 @@ _KIND_WORDS = {
     "budget_max": ("Sum of weights", "at most"),
     "group_min": ("Total weight of group {}", "at least"),
     "group_max": ("Total weight of group {}", "at most"),
+    "beta_min": ("Beta to the benchmark", "at least"),
+    "beta_max": ("Beta to the benchmark", "at most"),
     "max_turnover": ("One-way turnover", "at most"),
     "max_names": ("Names held", "at most"),
     "min_position": ("Smallest position held", "at least"),
@@ -70,6 +78,31 @@ def status_words(status: LimitStatus, names: Sequence[str]) -> str:
     elif name is not None:
         subject = f"{subject}: {name}"
     return f"{subject}, {side}" if side else subject
+
+
+def worded_linear(limits: Limits) -> tuple[LinearLimit, ...]:
+    """The linear limits worded by :func:`linear_words` (every kind but budget and group)."""
+    return tuple(item for item in limits.linear if item.kind in LINEAR_WORDS)
+
+
+def linear_words(item: LinearLimit) -> str:
+    """A linear limit in words, for example ``"beta to the benchmark between 0.95 and 1.05"``.
+
+    Plain numbers (``:g``); report.md and ``trackfit check`` both use it.
+    """
+    subject = LINEAR_WORDS.get(item.kind, item.kind.replace("_", " "))
+    if item.label is not None:
+        subject = f"{subject} {item.label}"
+    lo, hi = item.bounds()
+    if lo == hi:
+        return f"{subject} exactly {lo:g}"
+    if np.isfinite(lo) and np.isfinite(hi):
+        return f"{subject} between {lo:g} and {hi:g}"
+    if np.isfinite(lo):
+        return f"{subject} at least {lo:g}"
+    if np.isfinite(hi):
+        return f"{subject} at most {hi:g}"
+    return f"{subject}: no bound"
 
 
 def binding_first(statuses: Sequence[LimitStatus]) -> list[LimitStatus]:

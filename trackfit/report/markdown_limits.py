@@ -17,9 +17,12 @@ from trackfit.outcomes.fit import FitOutcome
 from trackfit.report.held import held_model
 from trackfit.report.limit_labels import (
     COUNT_KINDS,
+    PLAIN_KINDS,
     binding_first,
+    linear_words,
     status_words,
     trade_counts,
+    worded_linear,
 )
 from trackfit.report.numbers import NOT_AVAILABLE, fixed, percent, percent_short
 from trackfit.report.paths import relative_path
@@ -89,6 +92,13 @@ def _number(value: float) -> str:
     return fixed(value, ".6g")
 
 
+#: How a linear limit's quantity is measured, after its words in "Limits in force".
+_LINEAR_NOTES = {
+    "beta": " (cov(portfolio, benchmark) / var(benchmark), centered, over the rows each fit "
+            "uses: a fold's training rows, the rows before the holdout, the whole window)",
+}
+
+
 def _in_force(outcome: FitOutcome) -> list[str]:
     limits, spec, job = outcome.limits, outcome.job.limits, outcome.job
     folder = job.path.parent
@@ -115,6 +125,9 @@ def _in_force(outcome: FitOutcome) -> list[str]:
         for g in limits.groups:
             count = f"{len(g.members)} name" + ("" if len(g.members) == 1 else "s")
             lines.append(f"  - {inline(g.name)} ({count}): {_range(g.lower, g.upper)}.")
+    for item in worded_linear(limits):
+        words = linear_words(item)
+        lines.append(f"- {words[0].upper()}{words[1:]}{_LINEAR_NOTES.get(item.kind, '')}.")
     if limits.max_names is not None:
         lines.append(f"- Maximum names held: {limits.max_names}.")
     if limits.min_position is not None:
@@ -171,6 +184,8 @@ def _per_name(outcome: FitOutcome, limits: Limits) -> list[str]:
 def _status_cells(status: LimitStatus) -> list[str]:
     if status.kind in COUNT_KINDS:
         return [fixed(status.bound, ".0f"), fixed(status.value, ".0f"), fixed(status.slack, ".0f")]
+    if status.kind in PLAIN_KINDS:
+        return [fixed(status.bound, ".6f"), fixed(status.value, ".6f"), fixed(status.slack, ".6f")]
     return [percent(status.bound, 4), percent(status.value, 4), percent(status.slack, 4)]
 
 
@@ -189,7 +204,8 @@ def _statuses(outcome: FitOutcome, model: ModelOutcome) -> list[str]:
     lines = [
         f"Every limit at the final fit of the held model {inline(model.name)}, binding limits "
         f"first ({binding} of {len(statuses)} binding). Slack is the distance from the bound; "
-        "a limit binds when its slack is 0. Weights, sums and turnover are in percent.",
+        "a limit binds when its slack is 0. Weights, sums and turnover are in percent"
+        + ("; beta is a plain number." if any(s.kind in PLAIN_KINDS for s in statuses) else "."),
         "",
     ]
     ordered = binding_first(statuses)

@@ -6,6 +6,7 @@ infinity) are written as null.
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 from typing import Any
 
@@ -15,7 +16,7 @@ from trackfit.evaluate.trades import TradeList
 from trackfit.job import Bounds, HoldingsSpec, LimitsSpec
 from trackfit.outcomes.fit import FitOutcome
 from trackfit.report.held import held_model
-from trackfit.report.limit_labels import status_name, trade_counts
+from trackfit.report.limit_labels import status_name, trade_counts, worded_linear
 from trackfit.report.paths import relative_path
 
 
@@ -39,7 +40,7 @@ def job_limits(spec: LimitsSpec, folder: Path) -> dict[str, Any]:
             "each": _bounds(g.each),
             "bounds": [{"group": label, **_pair(b.min, b.max)} for label, b in g.bounds],
         }
-    return {
+    out = {
         "long_only": spec.long_only,
         "budget": None if spec.budget is None else _pair(*spec.budget),
         "weight": _bounds(spec.weight),
@@ -48,6 +49,9 @@ def job_limits(spec: LimitsSpec, folder: Path) -> dict[str, Any]:
         "max_names": spec.max_names,
         "min_position": spec.min_position,
     }
+    if spec.beta is not None:  # only when set, so summaries without it keep their bytes
+        out["beta"] = _bounds(spec.beta)
+    return out
 
 
 def job_holdings(spec: HoldingsSpec | None, folder: Path) -> dict[str, Any] | None:
@@ -83,7 +87,7 @@ def _in_force(limits: Limits, names: tuple[str, ...]) -> dict[str, Any]:
             )
             for i, name in enumerate(names)
         }
-    return {
+    out = {
         "long_only": limits.long_only,
         "budget": None if limits.budget is None else _pair(*limits.budget),
         "per_name": per_name,
@@ -101,6 +105,12 @@ def _in_force(limits: Limits, names: tuple[str, ...]) -> dict[str, Any]:
         "max_turnover": limits.max_turnover,
         "outside_turnover": limits.outside_turnover,
     }
+    # Linear limits beyond budget and groups, under their kind, only when set (so summaries
+    # without them keep their bytes); bounds as in the job, coefficients are per fit.
+    for item in worded_linear(limits):
+        lo, hi = item.bounds()
+        out[item.kind] = _pair(None if lo == -math.inf else lo, None if hi == math.inf else hi)
+    return out
 
 
 def _status(status: LimitStatus, names: tuple[str, ...]) -> dict[str, Any]:

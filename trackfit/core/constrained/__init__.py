@@ -1,8 +1,8 @@
 """Fits under mandate limits: a quadratic program solved by interior point, then polished exactly.
 
-:func:`solve_limited` fits one penalty under long-only, budget, per-name, group and turnover
-limits (on a given support); :func:`check_feasible` finds conflicting limits before any fitting;
-:func:`limit_statuses` measures every limit at a set of weights.
+:func:`solve_limited` fits one penalty under long-only, per-name, linear (budget, group,
+beta) and turnover limits (on a given support); :func:`check_feasible` finds conflicting
+limits before any fitting; :func:`limit_statuses` measures every limit at a set of weights.
 """
 
 from __future__ import annotations

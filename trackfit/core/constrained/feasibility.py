@@ -3,7 +3,9 @@
 Each check is a necessary condition for some weights to satisfy every limit: a name's bounds,
 sums of bounds against the budget (with ``max_names``, only the names that may be held count),
 groups against their members and the budget, the turnover cap against the turnover forced from
-outside, and, when no turnover is allowed, the current holdings against every other limit.
+outside, every linear limit's minimum against its maximum, and, when no turnover is allowed,
+the current holdings against every other limit. Limits whose coefficients depend on the fit
+rows (beta) are known only at fitting time: beyond their range, the solver checks them.
 Conflicts these checks cannot see (overlapping groups, several limits at once) are found by the
 solver, whose message names the limits involved.
 """
@@ -14,12 +16,14 @@ from collections.abc import Sequence
 
 import numpy as np
 
-from trackfit.core.limits import GroupLimit, Limits
+from trackfit.core.limits import STATUS_RANK, GroupLimit, Limits
 from trackfit.errors import SolverError
 
 # Sums of bounds are compared with this allowance: rounding (0.1 * 10 != 1.0) is no conflict.
 _TOL = 1e-12
 _SHOWN = 5
+# How a broken linear limit reads when the holdings must be kept; others: "<what> (holds x)".
+_HELD_WORDS = {"budget": "the budget (holdings sum to {total:g})"}
 
 
 def _listed(items: Sequence[str]) -> str:
@@ -44,12 +48,9 @@ def _arrays(limits: Limits, p: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]
                 f"({p},) without NaN. Got {value!r}."
             )
         out.append(arr)
-    for group in limits.groups:
-        if any(not 0 <= j < p for j in group.members):
-            raise ValueError(
-                f"The 'limits.groups[{group.name!r}].members' parameter of check_feasible must "
-                f"hold positions in [0, {p}). Got {group.members!r}."
-            )
+    for item in limits.linear:
+        if item.coef is not None or not item.depends_on_rows:
+            item.coefficients(p, "check_feasible")  # raises on bad members or coefficients
     return out[0], out[1], out[2]
 
 
@@ -156,6 +157,12 @@ def _check_ranges(limits: Limits) -> None:
         raise SolverError(
             f"the group minimum is above the group maximum for {_listed(bad)}; change one of each"
         )
+    for item in limits.linear:
+        lo, hi = item.bounds()
+        if item.kind not in ("budget", "group") and lo > hi + _TOL:  # those two are above
+            raise SolverError(
+                f"the {item.what} minimum {lo:g} is above its maximum {hi:g}; change one of them"
+            )
     if limits.max_turnover is not None:
         if limits.max_turnover < limits.outside_turnover - _TOL:
             raise SolverError(
@@ -307,15 +314,14 @@ def _check_turnover(limits, names, lower, upper, current) -> None:
             + _listed([f"{names[j]!r} holds {current[j]:g}" for j in out])
             + ")"
         )
-    for g in limits.groups:
-        total = float(current[list(g.members)].sum())
-        if total < _g(g.lower, -np.inf) - _TOL or total > _g(g.upper, np.inf) + _TOL:
-            broken.append(f"group {g.name!r} (holds {total:g})")
-    if limits.budget is not None:
-        total = float(current.sum())
-        lo, hi = _g(limits.budget[0], -np.inf), _g(limits.budget[1], np.inf)
+    for item in sorted(limits.linear, key=lambda i: STATUS_RANK.get(i.kind, len(STATUS_RANK))):
+        if item.coef is None and item.depends_on_rows:
+            continue
+        total = float(item.coefficients(len(current), "check_feasible") @ current)
+        lo, hi = item.bounds()
         if total < lo - _TOL or total > hi + _TOL:
-            broken.append(f"the budget (holdings sum to {total:g})")
+            broken.append(_HELD_WORDS.get(item.kind, "{what} (holds {total:g})").format(
+                what=item.what, total=total))
     held = int(np.count_nonzero(current))
     if limits.max_names is not None and held > limits.max_names:
         broken.append(f"max_names {limits.max_names} ({held} names held)")

@@ -5,8 +5,8 @@ With ``d_j = y_scale / x_scale_j`` and original weights ``w = d * b``, the probl
     minimize  0.5 b'Hb - c'b + l1 |b|_1 + tau |b - b_cur|_1 + const,   H = G + (l2 + ridge) I
 
 subject to per-name bounds ``lo <= b <= hi`` (the original bounds divided by ``d``, long-only
-folded in), linear rows ``L_r <= a_r'b <= U_r`` (budget and groups, coefficients ``d_j`` on
-members, so the rows are in original units) and the turnover cap
+folded in), linear rows ``L_r <= a_r'b <= U_r`` (one per entry of ``Limits.linear``: budget, groups,
+beta; coefficients ``a_rj = coef_rj d_j``, so the rows are in original units) and the turnover cap
 ``sum_j d_j |b_j - b_cur_j| / 2 <= cap``. Columns outside the support, and unusable ones, hold
 exactly 0 and are not variables: they count 0 in every sum, their current holdings count in
 the cap as a constant, and their turnover penalty goes into ``const``.
@@ -282,39 +282,19 @@ def _check_held_at_zero(
         )
 
 
-def _finite_or(value: float | None, default: float) -> float:
-    return default if value is None or not np.isfinite(value) else float(value)
-
-
 def _linear_rows(
     limits: Limits, solved: np.ndarray, cols: np.ndarray, d: np.ndarray
 ) -> tuple[LinearRow, ...]:
+    """One row per linear limit with a bound, in list order, over the solved columns."""
     rows = []
-    if limits.budget is not None:
-        lo, hi = limits.budget
-        rows.append(
-            LinearRow(
-                "budget", None, d.copy(), _finite_or(lo, -np.inf), _finite_or(hi, np.inf), "budget"
-            )
-        )
-    position = np.full(solved.size, -1)
-    position[cols] = np.arange(len(cols))
-    for group in limits.groups:
-        lo, hi = _finite_or(group.lower, -np.inf), _finite_or(group.upper, np.inf)
+    for item in limits.linear:
+        lo, hi = item.bounds()
         if lo == -np.inf and hi == np.inf:
             continue
-        coef = np.zeros(len(cols))
-        idx = np.asarray(group.members, dtype=int)
-        if idx.size and (idx.min() < 0 or idx.max() >= solved.size):
-            raise _param_error(
-                f"limits.groups[{group.name!r}].members",
-                f"positions in [0, {solved.size})",
-                group.members,
-            )
-        members = position[idx]
-        members = members[members >= 0]
-        coef[members] = d[members]
-        rows.append(LinearRow("group", group.name, coef, lo, hi, f"group {group.name!r}"))
+        # Coefficients per original weight times d_j: the row acts on b, its bounds stay in
+        # original units.
+        coef = item.coefficients(solved.size, "solve_limited")[cols] * d
+        rows.append(LinearRow(item.kind, item.label, coef, lo, hi, item.what))
     return tuple(rows)
 
 

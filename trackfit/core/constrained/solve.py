@@ -91,7 +91,7 @@ def _evaluate(
 def _describe(status: LimitStatus) -> str:
     if status.kind in ("lower", "upper", "long_only"):
         return f"{status.kind} (constituent {status.target})"
-    if status.kind.startswith("group"):
+    if isinstance(status.target, str):  # a labelled linear limit (a group)
         return f"{status.kind} ({status.target!r})"
     return status.kind
 
@@ -109,8 +109,8 @@ def solve_limited(
 
     Solves ``min 0.5 b'Gb - c'b + l1 |b|_1 + 0.5 l2 |b|^2 + tau |b - b_cur|_1`` with
     ``l1 = alpha * l1_ratio``, ``l2 = alpha * (1 - l1_ratio)``, ``tau =
-    limits.turnover_penalty``, subject to long-only, budget, per-name bounds, group bounds and
-    the turnover cap on the original weights ``w_j = b_j * y_scale / x_scale_j``
+    limits.turnover_penalty``, subject to long-only, per-name bounds, every linear limit
+    (budget, groups, beta) and the turnover cap on the original weights ``w_j = b_j * y_scale / x_scale_j``
     (``limits.max_names`` and ``limits.min_position`` are the support search's). When the
     problem is not strictly convex (``l2 == 0`` and a singular Gram matrix on the solved
     columns, as with more of them than rows) a ridge of ``RIDGE_FOR_UNIQUENESS`` times the
@@ -127,8 +127,8 @@ def solve_limited(
     l1_ratio : float
         In [0, 1].
     limits : Limits
-        ``lower``, ``upper``, ``current`` of shape (n_assets,); group members index all
-        constituents.
+        ``lower``, ``upper``, ``current`` of shape (n_assets,); linear limits over all
+        constituents, row-dependent ones resolved (:meth:`Limits.on_rows`).
     support : ndarray of bool, shape (n_assets,), optional
         Only these constituents may hold weight (the rest are exactly 0).
 

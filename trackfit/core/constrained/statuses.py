@@ -6,7 +6,7 @@ from dataclasses import replace
 
 import numpy as np
 
-from trackfit.core.limits import Limits, LimitStatus
+from trackfit.core.limits import STATUS_RANK, Limits, LimitStatus, LinearLimit
 
 #: A limit whose slack is within this of 0 (original units) is binding; its slack reads 0.0.
 BINDING = 1e-9
@@ -25,12 +25,19 @@ def _finite(value: float | None) -> bool:
     return value is not None and bool(np.isfinite(value))
 
 
+def _status_order(limits: Limits) -> list[LinearLimit]:
+    """The linear limits in status order: by :data:`STATUS_RANK`, then as listed."""
+    last = len(STATUS_RANK)
+    return sorted(limits.linear, key=lambda item: STATUS_RANK.get(item.kind, last))
+
+
 def limit_statuses(weights: np.ndarray, limits: Limits) -> tuple[LimitStatus, ...]:
     """Every limit in force at ``weights``, in a stable order.
 
     The order: long-only (one status, at the most negative weight); per-name ``lower`` and
-    ``upper`` (only finite bounds), by position, lower before upper; for each group in order,
-    ``group_min`` then ``group_max``; ``budget_min``, ``budget_max``; ``max_turnover``. The
+    ``upper`` (only finite bounds), by position, lower before upper; the linear limits (for
+    each group in order ``group_min`` then ``group_max``; ``budget_min``, ``budget_max``; then
+    any other kind, such as ``beta_min``, ``beta_max``, in list order); ``max_turnover``. The
     count limits (``max_names``, ``min_position``) are not covered here. Slack is
     ``value - bound`` for lower limits and ``bound - value`` for upper ones, negative when a
     limit is broken, and reads exactly 0.0 when within :data:`BINDING` of 0.
@@ -59,19 +66,12 @@ def _raw_statuses(weights: np.ndarray, limits: Limits) -> list[LimitStatus]:
             out.append(_status("lower", j, lower[j], w[j], w[j] - lower[j]))
         if np.isfinite(upper[j]):
             out.append(_status("upper", j, upper[j], w[j], upper[j] - w[j]))
-    for group in limits.groups:
-        total = float(np.sum(w[np.asarray(group.members, dtype=int)])) if group.members else 0.0
-        if _finite(group.lower):
-            out.append(_status("group_min", group.name, group.lower, total, total - group.lower))
-        if _finite(group.upper):
-            out.append(_status("group_max", group.name, group.upper, total, group.upper - total))
-    if limits.budget is not None:
-        lo, hi = limits.budget
-        total = float(np.sum(w))
-        if _finite(lo):
-            out.append(_status("budget_min", None, lo, total, total - lo))
-        if _finite(hi):
-            out.append(_status("budget_max", None, hi, total, hi - total))
+    for item in _status_order(limits):
+        total = item.total(w)
+        if _finite(item.lower):
+            out.append(_status(f"{item.kind}_min", item.label, item.lower, total, total - item.lower))
+        if _finite(item.upper):
+            out.append(_status(f"{item.kind}_max", item.label, item.upper, total, item.upper - total))
     if limits.max_turnover is not None:
         current = limits.current if limits.current is not None else np.zeros(w.size)
         value = float(np.sum(np.abs(w - current))) / 2.0 + limits.outside_turnover
@@ -95,19 +95,12 @@ def worst_violation(weights: np.ndarray, limits: Limits) -> float:
     if limits.upper is not None and w.size:
         gap = w - limits.upper
         worst = max(worst, float(np.max(np.where(np.isfinite(gap), gap, -np.inf))))
-    for group in limits.groups:
-        total = float(np.sum(w[np.asarray(group.members, dtype=int)])) if group.members else 0.0
-        if _finite(group.lower):
-            worst = max(worst, group.lower - total)
-        if _finite(group.upper):
-            worst = max(worst, total - group.upper)
-    if limits.budget is not None:
-        lo, hi = limits.budget
-        total = float(np.sum(w))
-        if _finite(lo):
-            worst = max(worst, lo - total)
-        if _finite(hi):
-            worst = max(worst, total - hi)
+    for item in limits.linear:
+        total = item.total(w)
+        if _finite(item.lower):
+            worst = max(worst, item.lower - total)
+        if _finite(item.upper):
+            worst = max(worst, total - item.upper)
     if limits.max_turnover is not None:
         current = limits.current if limits.current is not None else np.zeros(w.size)
         value = float(np.sum(np.abs(w - current))) / 2.0 + limits.outside_turnover
