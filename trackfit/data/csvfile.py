@@ -11,7 +11,7 @@ it (so a notes column nobody uses cannot break a run). Two reads give the same t
 
 Both turn text into numbers with the same converter (pandas' ``precise_xstrtod``, behind
 ``read_csv`` and ``to_numeric`` alike), so a file the quick read takes gives the same bits
-either way (``tests/test_data_csvfile.py`` checks the two on the same files). The careful
+either way (``tests/test_data_csvfile_reads.py`` checks the two on the same files). The careful
 read alone took 15-20 times as long as ``pandas.read_csv`` on wide files, most of it in
 stripping and converting cells one column at a time (benchmarks/README.md).
 """
@@ -51,7 +51,7 @@ _READ_OPTIONS = {"skip_blank_lines": False, "encoding": "utf-8-sig"}
 
 @dataclass(frozen=True, eq=False)
 class WideTable:
-    """The text of one wide CSV file, sorted by date.
+    """One wide CSV file, rows sorted by date: its numbers (quick read) or its texts (careful).
 
     Attributes
     ----------
@@ -102,7 +102,11 @@ class WideTable:
         )
 
     def numbers(self, column: str) -> np.ndarray:
-        """Column ``column`` as float64 of shape (n_rows,), NaN where a cell is missing."""
+        """Column ``column`` as float64 of shape (n_rows,), NaN where a cell is missing.
+
+        After the quick read this is a read-only view of ``values``; after the careful read a
+        new array, and a cell that is neither a number nor a missing marker raises DataError.
+        """
         if self.values is not None:
             return self.values[:, self._positions[column]]
         import pandas as pd
