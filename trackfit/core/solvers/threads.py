@@ -14,8 +14,8 @@ its vendor, which code of our own would do worse. Results never depend on it, on
 from __future__ import annotations
 
 import threading
-from contextlib import contextmanager
 from collections.abc import Iterator
+from contextlib import contextmanager
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
