@@ -1,21 +1,38 @@
 """Read one wide CSV file: a date column plus one column per series.
 
-The file is read as text once; dates are parsed and checked at once, and a column is turned
-into numbers only when a job asks for it (so a notes column nobody uses cannot break a run).
+Dates are parsed and checked at once; a column's numbers are checked only when a job asks for
+it (so a notes column nobody uses cannot break a run). Two reads give the same table:
+
+- the quick read parses every series cell straight to float64 in pandas' C reader. It serves a
+  file only when every cell is a plain finite number or a missing marker and every row has a
+  date, and declines (returns None) at anything else;
+- the careful read keeps every cell as stripped text and converts a column when asked; it
+  serves the files the quick read declines and words every error.
+
+Both turn text into numbers with the same converter (pandas' ``precise_xstrtod``, behind
+``read_csv`` and ``to_numeric`` alike), so a file the quick read takes gives the same bits
+either way (``tests/test_data_csvfile_reads.py`` checks the two on the same files). The careful
+read alone took 15-20 times as long as ``pandas.read_csv`` on wide files, most of it in
+stripping and converting cells one column at a time (benchmarks/README.md).
 """
 
 from __future__ import annotations
 
+import csv
 import difflib
 import re
 from collections import Counter
 from dataclasses import dataclass
+from functools import cached_property
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from trackfit.errors import DataError
+
+if TYPE_CHECKING:  # pandas loads on the first read, so commands that read nothing start fast
+    import pandas as pd
 
 #: Cell texts read as a missing value. Anything else that is not a number is an error.
 MISSING_TOKENS = frozenset({"", "NA", "N/A", "#N/A", "NaN", "nan"})
@@ -23,10 +40,18 @@ MISSING_TOKENS = frozenset({"", "NA", "N/A", "#N/A", "NaN", "nan"})
 _ISO_DATE = re.compile(r"\d{4}-\d{2}-\d{2}")
 _MAX_LISTED = 5
 
+# Both readers take a column of integer texts as int64 first, each by its own rules (pandas'
+# C reader even with missing markers among them, to_numeric only without); where the choice
+# could change a value (integers from 2**53 up round differently; "-0" keeps its sign only as a
+# float) the quick read declines, as it does for infinities.
+_EXACT_INTEGERS = 2.0**53
+
+_READ_OPTIONS = {"skip_blank_lines": False, "encoding": "utf-8-sig"}
+
 
 @dataclass(frozen=True, eq=False)
 class WideTable:
-    """The text of one wide CSV file, sorted by date.
+    """One wide CSV file, rows sorted by date: its numbers (quick read) or its texts (careful).
 
     Attributes
     ----------
@@ -38,18 +63,28 @@ class WideTable:
         Strictly increasing dates.
     columns : tuple of str
         The non-date column names, in file order.
-    cells : DataFrame of shape (n_rows, n_columns)
-        Stripped cell texts, rows in ``dates`` order, columns as ``columns``.
     lines : ndarray of int, shape (n_rows,)
         Line number in the file of each row (the header is line 1).
+    values : ndarray of shape (n_rows, n_columns) or None
+        Read-only float64 cell values (NaN where missing), rows in ``dates`` order, columns as
+        ``columns``, from the quick read; None after the careful read.
+    cells : DataFrame of shape (n_rows, n_columns) or None
+        Stripped cell texts, laid out as ``values``, from the careful read; None after the
+        quick read.
     """
 
     path: Path
     label: str
     dates: np.ndarray
     columns: tuple[str, ...]
-    cells: pd.DataFrame
     lines: np.ndarray
+    values: np.ndarray | None = None
+    cells: pd.DataFrame | None = None
+
+    @cached_property
+    def _positions(self) -> dict[str, int]:
+        # tuple.index on every call made reading 2,000 columns quadratic (46 ms)
+        return {name: j for j, name in enumerate(self.columns)}
 
     def require(self, column: str, key: str) -> None:
         """Raise DataError unless ``column`` is in the file; ``key`` is the job key naming it."""
@@ -67,7 +102,15 @@ class WideTable:
         )
 
     def numbers(self, column: str) -> np.ndarray:
-        """Column ``column`` as float64 of shape (n_rows,), NaN where a cell is missing."""
+        """Column ``column`` as float64 of shape (n_rows,), NaN where a cell is missing.
+
+        After the quick read this is a read-only view of ``values``; after the careful read a
+        new array, and a cell that is neither a number nor a missing marker raises DataError.
+        """
+        if self.values is not None:
+            return self.values[:, self._positions[column]]
+        import pandas as pd
+
         text = self.cells[column]
         values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=np.float64)
         missing = text.isin(MISSING_TOKENS).to_numpy()
@@ -109,6 +152,104 @@ def read_wide_csv(
         File missing or unreadable, empty, malformed, no date column, blank or repeated
         column names, an unreadable date, or a date given twice.
     """
+    _check_file(path, label)
+    quick = _read_numbers(path, date_column, date_format, label)
+    return quick if quick is not None else _read_texts(path, date_column, date_format, label)
+
+
+def _check_file(path: Path, label: str) -> None:
+    if not path.is_file():
+        what = "is a folder, not a file" if path.is_dir() else "does not exist"
+        raise DataError(
+            f"{label}: the data file {what} ({path}); check the file path in the job file "
+            "(relative paths start from the job file's folder)"
+        )
+
+
+def _read_numbers(
+    path: Path, date_column: str, date_format: str | None, label: str
+) -> WideTable | None:
+    """The quick read (see the module docstring), or None where the careful read must serve."""
+    import pandas as pd
+
+    try:
+        with open(path, encoding=_READ_OPTIONS["encoding"], newline="") as f:
+            raw = next(csv.reader(f), [])
+        header = [name.strip() for name in raw]
+        if date_column not in header or not all(header) or len(set(header)) < len(header):
+            return None
+        date_name = raw[header.index(date_column)]
+        # Left to infer, a series column comes out int64 or float64 when every cell is a number
+        # or a marker: naming any dtype made pandas take 1.3-1.7 times as long. Dates read as
+        # text, unless they look like numbers (20200102): then the date column is named.
+        body = _read_inferred(pd, path, None)
+        if body[date_name].dtype.kind != "O":
+            body = _read_inferred(pd, path, {date_name: object})
+    except (ValueError, TypeError, OSError, csv.Error):  # not plain numbers, or unreadable
+        return None
+    # The names must be the header the careful read sees, and a row with one field too many
+    # must not have been taken as an index column.
+    if list(body.columns) != raw or not isinstance(body.index, pd.RangeIndex) or body.empty:
+        return None
+    text = body.pop(date_name).to_numpy()
+    if not all(dtype.kind in "if" for dtype in body.dtypes):  # text, or True/False read as bool
+        return None
+    if not all(isinstance(t, str) for t in text):  # a blank line, or a row with no date cell
+        return None
+    text = [t.strip() for t in text]
+    if not all(text):
+        return None
+    values = body.to_numpy(dtype=np.float64)
+    if np.any(np.abs(values) >= _EXACT_INTEGERS):
+        return None  # also infinities, which the two readers spell differently
+    if _zero_sign_unsure(values):
+        return None
+    lines = np.arange(2, len(text) + 2)
+    dates = _parse_dates(pd.Series(text, dtype=str), lines, date_format, label, date_column)
+    _check_unique(dates, label)
+    order = np.argsort(dates, kind="stable")
+    if np.any(order != np.arange(len(order))):
+        values, lines = values[order], lines[order]
+        dates = dates[order]
+    values = np.asfortranarray(values)  # column-major: each series is contiguous
+    values.flags.writeable = False
+    return WideTable(
+        path=path,
+        label=label,
+        dates=dates,
+        columns=tuple(name for name in header if name != date_column),
+        lines=lines,
+        values=values,
+    )
+
+
+def _zero_sign_unsure(values: np.ndarray) -> bool:
+    """True when a zero of ``values`` (n_rows, n_columns) might have another sign in the careful
+    read: a negative zero, or a zero in a column of whole numbers, which either reader may have
+    taken as int64 (where "-0" is 0) and the other as float64 (where it is -0.0)."""
+    zeros = values == 0.0
+    if not zeros.any():
+        return False
+    if np.signbit(values[zeros]).any():
+        return True
+    suspect = values[:, zeros.any(axis=0)]
+    whole = (suspect == np.floor(suspect)) | np.isnan(suspect)
+    return bool(whole.all(axis=0).any())
+
+
+def _read_inferred(pd, path: Path, dtype: dict | None) -> pd.DataFrame:
+    return pd.read_csv(
+        path,
+        header=0,
+        dtype=dtype,
+        na_values=sorted(MISSING_TOKENS),
+        keep_default_na=False,
+        **_READ_OPTIONS,
+    )
+
+
+def _read_texts(path: Path, date_column: str, date_format: str | None, label: str) -> WideTable:
+    """The careful read: every cell kept as stripped text."""
     raw = _read_text_table(path, label).fillna("").astype(str)
     header = [name.strip() for name in raw.iloc[0]]
     body = raw.iloc[1:].apply(lambda col: col.str.strip())
@@ -140,21 +281,10 @@ def read_wide_csv(
 
 
 def _read_text_table(path: Path, label: str) -> pd.DataFrame:
-    if not path.is_file():
-        what = "is a folder, not a file" if path.is_dir() else "does not exist"
-        raise DataError(
-            f"{label}: the data file {what} ({path}); check the file path in the job file "
-            "(relative paths start from the job file's folder)"
-        )
+    import pandas as pd
+
     try:
-        return pd.read_csv(
-            path,
-            header=None,
-            dtype=str,
-            na_filter=False,
-            skip_blank_lines=False,
-            encoding="utf-8-sig",
-        )
+        return pd.read_csv(path, header=None, dtype=str, na_filter=False, **_READ_OPTIONS)
     except pd.errors.EmptyDataError:
         raise DataError(
             f"{label}: the file is empty; expected a header line with a date column "
@@ -188,6 +318,8 @@ def _check_header(header: list[str], label: str) -> None:
 def _parse_dates(
     text: pd.Series, lines: np.ndarray, date_format: str | None, label: str, column: str
 ) -> np.ndarray:
+    import pandas as pd
+
     if date_format is None:
         parsed = pd.to_datetime(text, format="%Y-%m-%d", errors="coerce")
         # strptime also takes 2020-1-5; ISO 8601 wants two digits, so check the shape too

@@ -17,13 +17,16 @@ and ``u_j >= |b_j - b_cur_j|`` for the turnover penalty and cap. Fixed columns a
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
-import clarabel
 import numpy as np
-from scipy import sparse
 
 from trackfit.core.constrained.problem import Problem
 from trackfit.errors import InfeasibleError, SolverError
+
+if TYPE_CHECKING:
+    import clarabel
+    from scipy import sparse
 
 _TOL = 1e-12
 _MAX_ITER = 200
@@ -54,6 +57,8 @@ class InteriorPoint:
 
 
 def _settings() -> clarabel.DefaultSettings:
+    import clarabel
+
     s = clarabel.DefaultSettings()
     s.verbose = False
     s.max_threads = 1  # one thread: the same bytes on every run
@@ -67,6 +72,8 @@ def _settings() -> clarabel.DefaultSettings:
 
 def _csc(M: np.ndarray) -> sparse.csc_matrix:
     """Dense to CSC without scipy's general-purpose conversion (this runs thousands of times)."""
+    from scipy import sparse
+
     cols, rows = np.nonzero(M.T)  # column-major order, rows increasing within a column
     indptr = np.zeros(M.shape[1] + 1, dtype=np.int64)
     np.cumsum(np.bincount(cols, minlength=M.shape[1]), out=indptr[1:])
@@ -82,6 +89,8 @@ def solve_interior(prob: Problem) -> InteriorPoint:
         When the limits cannot all hold (the message names those in Clarabel's certificate),
         or Clarabel returns no usable point.
     """
+    import clarabel  # here, not at the top: commands that solve nothing never load it
+
     V = np.flatnonzero(~prob.fixed)
     nv = len(V)
     bF = prob.fixed_b()

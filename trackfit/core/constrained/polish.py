@@ -16,7 +16,6 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 
 import numpy as np
-from scipy import linalg
 
 from trackfit.core.constrained.optimality import (
     clip_signs,
@@ -68,6 +67,8 @@ class Polished:
 
 
 def _refined_solve(K: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    from scipy import linalg  # scipy loads on the first fit, not at start-up
+
     lu = linalg.lu_factor(K, check_finite=False)
     x = linalg.lu_solve(lu, rhs, check_finite=False)
     return x + linalg.lu_solve(lu, rhs - K @ x, check_finite=False)
@@ -118,6 +119,8 @@ def solve_state(prob: Problem, state: State) -> tuple[np.ndarray, np.ndarray, fl
         A = np.vstack(A_rows)
         if e > len(F) or np.linalg.matrix_rank(A) < e:
             # Dependent tight limits: solve with an independent subset of them.
+            from scipy import linalg
+
             _, _, piv = linalg.qr(A.T, pivoting=True, mode="economic")
             keep = np.sort(piv[: np.linalg.matrix_rank(A)])
             determined = False
@@ -259,7 +262,7 @@ def polish(prob: Problem, start: InteriorPoint) -> Polished | None:
         seen.add(key)
         try:
             b, mu, mu_cap, determined = solve_state(prob, state)
-        except (linalg.LinAlgError, ValueError):
+        except (np.linalg.LinAlgError, ValueError):  # scipy raises numpy's LinAlgError
             break
         if not np.all(np.isfinite(b)):
             break

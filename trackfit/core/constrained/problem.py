@@ -17,7 +17,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import linalg
 
 from trackfit.core.gram import GramData
 from trackfit.core.limits import Limits
@@ -135,6 +134,8 @@ def validate_penalty(alpha: float, l1_ratio: float) -> None:
 
 
 def _positive_definite(A: np.ndarray) -> bool:
+    from scipy import linalg  # scipy loads on the first fit, not at start-up
+
     try:
         linalg.cholesky(A, lower=True, check_finite=False)
     except linalg.LinAlgError:

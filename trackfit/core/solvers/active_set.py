@@ -12,7 +12,6 @@ tolerance, which keeps the chosen penalty stable when the data move by rounding 
 from __future__ import annotations
 
 import numpy as np
-from scipy import linalg
 
 # Stop when no KKT condition is violated by more than this, relative to max|c|.
 _TOL = 1e-13
@@ -22,6 +21,8 @@ _SINGULAR = 1e-12
 
 def _solve_spd(A: np.ndarray, b: np.ndarray) -> np.ndarray:
     """Solve ``A x = b`` for symmetric positive (semi)definite ``A``, refined once."""
+    from scipy import linalg  # scipy loads on the first fit, not at start-up
+
     try:
         factor = linalg.cho_factor(A, check_finite=False)
         x = linalg.cho_solve(factor, b, check_finite=False)

@@ -9,7 +9,6 @@ import numpy as np
 from trackfit.core.gram import GramData
 from trackfit.core.solvers.active_set import solve_enet
 from trackfit.core.solvers.base import PathSolution
-from trackfit.core.solvers.enet_path import enet_path_gram
 from trackfit.core.solvers.lars import lasso_path_gram
 from trackfit.core.solvers.ridge import ridge_path
 from trackfit.core.solvers.threads import single_threaded
@@ -107,6 +106,9 @@ class ExactPathSolver:
         data: GramData, alphas: np.ndarray, l1_ratio: float, positive: bool
     ) -> tuple[np.ndarray, np.ndarray]:
         if l1_ratio < 1.0:
+            # imported here: the elastic-net walk loads scipy, which start-up does not need
+            from trackfit.core.solvers.enet_path import enet_path_gram
+
             lead = _lead_in(data, alphas, l1_ratio, positive)
             if len(lead) == 0:
                 return enet_path_gram(data.gram, data.xty, alphas, l1_ratio, positive=positive)

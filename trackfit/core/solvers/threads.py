@@ -14,17 +14,20 @@ its vendor, which code of our own would do worse. Results never depend on it, on
 from __future__ import annotations
 
 import threading
+from collections.abc import Iterator
 from contextlib import contextmanager
-from typing import Iterator
+from typing import TYPE_CHECKING
 
-from threadpoolctl import ThreadpoolController
+if TYPE_CHECKING:
+    from threadpoolctl import ThreadpoolController
 
 _lock = threading.Lock()
 _depth = 0
 _limiter = None
 # Finding the loaded libraries took 1.3 ms per call on the benchmark machine, more than many
-# whole fits of the test suite; a controller made once (numpy's and scipy's BLAS are loaded
-# by then: the solvers import scipy) sets and restores limits in 0.02 ms.
+# whole fits of the test suite; a controller made once sets and restores limits in 0.02 ms.
+# It only sees the libraries loaded when it is made, and the solvers import scipy lazily, so
+# scipy.linalg (which loads scipy's own BLAS) is imported first.
 _controller: ThreadpoolController | None = None
 
 
@@ -35,6 +38,9 @@ def single_threaded() -> Iterator[None]:
     with _lock:
         if _depth == 0:
             if _controller is None:
+                import scipy.linalg  # noqa: F401
+                from threadpoolctl import ThreadpoolController
+
                 _controller = ThreadpoolController()
             _limiter = _controller.limit(limits=1, user_api="blas")
         _depth += 1
