@@ -46,7 +46,8 @@ def test_modules_below_the_command_layer_load_no_heavy_library():
     loaded = _loaded_after(
         "import trackfit.core.constrained, trackfit.core.limited_fit, trackfit.core.cv, "
         "trackfit.core.solvers, trackfit.evaluate.holdout, trackfit.evaluate.backtest, "
-        "trackfit.report, trackfit.report.backtest_files, trackfit.data.load, trackfit.mandate"
+        "trackfit.report, trackfit.report.backtest_files, trackfit.data.load, trackfit.commands.mandate, "
+        "trackfit.evaluate.recipe, trackfit.outcomes.fit, trackfit.outcomes.backtest"
     )
     assert _offenders(loaded) == []
     # Cheap to avoid, so avoided: scipy loads on the first fit, pandas on the first file read.
