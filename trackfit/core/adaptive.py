@@ -90,9 +90,9 @@ def pilot_splitter(splitter: ForwardChaining, n: int) -> tuple[ForwardChaining, 
             f"{candidate.min_train} training rows, as the job's folds do not fit in them"
         )
     raise SolverError(
-        f"adaptive_lasso: {n} rows cannot hold even 2 cross-validation folds with gap "
-        f"{splitter.gap} to choose the pilot ridge penalty; lengthen the window or lower "
-        "cross_validation.folds or gap"
+        f"the adaptive lasso's pilot ridge: {n} rows cannot hold even 2 cross-validation "
+        f"folds with gap {splitter.gap} to choose its penalty; lengthen the window or lower "
+        "cross_validation.gap"
     )
 
 
