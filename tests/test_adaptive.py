@@ -9,8 +9,12 @@ import numpy as np
 import pytest
 from sklearn.linear_model import Lasso
 
-import trackfit.core.adaptive as adaptive
-from trackfit.core.adaptive import adaptive_reweighting, pilot_splitter, reweighted_scaling
+from trackfit.core import adaptive
+from trackfit.core.adaptive import (
+    adaptive_reweighting,
+    pilot_splitter,
+    reweighted_scaling,
+)
 from trackfit.core.cv import cross_validate, fold_scalings
 from trackfit.core.fit import KKT_LIMIT
 from trackfit.core.folds import ForwardChaining
@@ -190,10 +194,10 @@ def test_gamma_parses(tmp_path: Path, text, gamma):
     ("{gamma: .inf}", "'models.adaptive_lasso.gamma' must be a number greater than 0; got inf."),
     ("{gamma: .nan}", "'models.adaptive_lasso.gamma' must be a number greater than 0; got nan."),
     ("{gamma: true}", "'models.adaptive_lasso.gamma' must be a number greater than 0; got True."),
-    ("{gamma: '1'}", "'models.adaptive_lasso.gamma' must be a number greater than 0; got '1' "
-     "(text, not a number; remove the quotes)."),
-    ("{gamma: [1, 2]}", "'models.adaptive_lasso.gamma' must be a number greater than 0; got "
-     "[1, 2]."),
+    ("{gamma: '1'}", ("'models.adaptive_lasso.gamma' must be a number greater than 0; got '1' "
+                      "(text, not a number; remove the quotes).")),
+    ("{gamma: [1, 2]}", ("'models.adaptive_lasso.gamma' must be a number greater than 0; got "
+                         "[1, 2].")),
     ("{gammas: 1}", "unknown key 'models.adaptive_lasso.gammas'; did you mean 'gamma'?"),
     ("{l1_ratio: 0.5}", "unknown key 'models.adaptive_lasso.l1_ratio'; allowed: gamma"),
     ("[1]", "'models.adaptive_lasso' must be a mapping with keys among 'gamma'; got [1]."),

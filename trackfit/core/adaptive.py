@@ -115,7 +115,8 @@ def pilot_ridge(
     notes : tuple of str
         A note when a fallback splitter was used.
     """
-    from trackfit.core.cv import cross_validate  # cross-validation imports the model registry
+    # Imported here: cross-validation imports the model registry, which imports this lazily.
+    from trackfit.core.cv import cross_validate
 
     chosen, note = pilot_splitter(splitter, len(y))
     cv = cross_validate(X, y, PILOT_SPEC, chosen, rule="min_error", count=PILOT_COUNT)

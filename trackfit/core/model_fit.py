@@ -8,7 +8,12 @@ import numpy as np
 
 from trackfit.core.folds import ForwardChaining
 from trackfit.core.gram import standardized_gram
-from trackfit.core.limited_fit import FULL_SEARCH, SearchOptions, fit_limited, fit_limited_gram
+from trackfit.core.limited_fit import (
+    FULL_SEARCH,
+    SearchOptions,
+    fit_limited,
+    fit_limited_gram,
+)
 from trackfit.core.limits import Limits
 from trackfit.core.models import ModelSpec, model_kind
 from trackfit.core.results import FittedWeights
