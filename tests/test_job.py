@@ -378,7 +378,7 @@ ERRORS = [
      "'window.lookback' (100) so rows are left for choosing the penalty"),
     # models and hold
     (BC + "models: {}\n", "'models' must be a non-empty mapping or list of model names (lasso, "
-     "ridge, elastic_net); got {}."),
+     "ridge, elastic_net, adaptive_lasso); got {}."),
     (BC + "models: lasso\n", "'models' must be a non-empty mapping or list of model names"),
     (BC + "models: {lass: {}}\n", "unknown model 'models.lass'; did you mean 'lasso'?"),
     (BC + "models: {svm: {}}\n", "unknown model 'models.svm'; allowed: lasso, ridge, elastic_net"),
@@ -387,15 +387,18 @@ ERRORS = [
     (BC + "models: [lasso, equal_weight]\n", "'equal_weight' in 'models[1]': ols and equal_weight "
      "are always computed as baselines"),
     (BC + "models: [lasso, Ridge]\n",
-     "'models[1]' must be one of lasso, ridge, elastic_net; got 'Ridge'; did you mean 'ridge'?"),
-    (BC + "models: [lasso, 3]\n", "'models[1]' must be one of lasso, ridge, elastic_net; got 3."),
+     "'models[1]' must be one of lasso, ridge, elastic_net, adaptive_lasso; got 'Ridge'; did you "
+     "mean 'ridge'?"),
+    (BC + "models: [lasso, 3]\n", "'models[1]' must be one of lasso, ridge, elastic_net, "
+     "adaptive_lasso; got 3."),
     (BC + "models: [lasso, {elastic_net: {l1_ratio: 0.5}}]\n", "'models[1]' must be a model name "
-     "(lasso, ridge, elastic_net); to give options, write 'models' as a mapping"),
+     "(lasso, ridge, elastic_net, adaptive_lasso); to give options, write 'models' as a mapping"),
     (BC + "models: [lasso, ridge, lasso]\n", "'models' lists 'lasso' twice; list each model once"),
     (BC + "models: {lasso: {alpha: 0.1}}\n", "'models.lasso' must be empty ('lasso: {}' or "
-     "'lasso:'); only elastic_net takes options (l1_ratio); got {'alpha': 0.1}."),
+     "'lasso:'); only elastic_net (l1_ratio) and adaptive_lasso (gamma) take options; got "
+     "{'alpha': 0.1}."),
     (BC + "models: {ridge: {l1_ratio: 0}}\n", "'models.ridge' must be empty ('ridge: {}' or "
-     "'ridge:'); only elastic_net takes options (l1_ratio)"),
+     "'ridge:'); only elastic_net (l1_ratio) and adaptive_lasso (gamma) take options"),
     (BC + "models: {elastic_net: [0.5]}\n", "'models.elastic_net' must be a mapping with keys "
      "among 'l1_ratio'; got [0.5]."),
     (BC + "models: {elastic_net: {l1_ratio: []}}\n", "'models.elastic_net.l1_ratio' must be a "

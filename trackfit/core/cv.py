@@ -17,7 +17,7 @@ from trackfit.core.gram import GramData, RowBlocks, gram_from_blocks, window_gra
 from trackfit.core.grid import extend_grid, penalty_grid
 from trackfit.core.limited_fit import CV_SEARCH, fit_limited_gram, needs_limited_engine
 from trackfit.core.limits import NO_LIMITS, Limits
-from trackfit.core.models import ModelSpec
+from trackfit.core.models import ModelSpec, model_kind
 from trackfit.core.results import CVCurve, CVResult, Fold, Scaling
 from trackfit.core.scaling import fit_scaling
 from trackfit.core.solvers import PathSolver, default_solver
@@ -108,6 +108,57 @@ def _grid_statistics(X: np.ndarray, y: np.ndarray, scaling: Scaling) -> GramData
     return GramData(gram=np.zeros((0, 0)), xty=xty, yty=yty, n=n, columns=columns)
 
 
+def _working_scaling(
+    X: np.ndarray, y: np.ndarray, spec: ModelSpec, splitter: ForwardChaining
+) -> tuple[Scaling, tuple[str, ...]]:
+    """The scaling a fit of ``spec`` on these rows works in, and any notes of how it was
+    chosen: :func:`fit_scaling`, reweighted by the kind's rule when it has one (the adaptive
+    lasso's pilot, chosen on these rows alone)."""
+    scaling = fit_scaling(X, y)
+    reweight = model_kind(spec.kind).reweight
+    if reweight is None:
+        return scaling, ()
+    done = reweight(X, y, spec, splitter, scaling)
+    return done.scaling, done.notes
+
+
+def fold_scalings(
+    X: np.ndarray, y: np.ndarray, spec: ModelSpec, splitter: ForwardChaining, folds=None
+) -> list[Scaling]:
+    """The scaling each fold's fit works in, each chosen on that fold's training rows only.
+
+    Parameters
+    ----------
+    X : ndarray of shape (n_periods, n_assets)
+    y : ndarray of shape (n_periods,)
+    spec : ModelSpec
+    splitter : ForwardChaining
+        Gives the folds (unless ``folds`` is given) and, for kinds that reweight their
+        columns, the pilot's folds inside each fold's training rows.
+    folds : sequence of Fold, optional
+        Default ``splitter.split(n_periods)``.
+
+    Returns
+    -------
+    list of Scaling
+        One per fold.
+    """
+    folds = splitter.split(len(y)) if folds is None else folds
+    out = []
+    for i, f in enumerate(folds, 1):
+        rows = slice(f.train_start, f.train_stop)
+        try:
+            scaling, _ = _working_scaling(X[rows], y[rows], spec, splitter)
+        except SolverError as exc:
+            if model_kind(spec.kind).reweight is None:
+                raise
+            raise SolverError(
+                f"{spec.name}, fold {i} (training rows {f.train_start} to {f.train_stop - 1}): {exc}"
+            ) from None
+        out.append(scaling)
+    return out
+
+
 def _fold_bounds(folds, n: int) -> set[int]:
     return {0, n} | {b for f in folds for b in (f.train_start, f.train_stop)}
 
@@ -168,6 +219,10 @@ def cross_validate(
     and the extension is noted; for lasso and elastic net only the small-penalty edge can move,
     since every larger penalty holds no names.
 
+    Kinds that reweight their columns (the adaptive lasso) choose the weighting on the rows
+    each fit sees: the grid's from all rows given, each fold's from that fold's training rows
+    only (:func:`fold_scalings`); ``blocks`` serve the outer folds, the pilot reads its rows.
+
     Parameters
     ----------
     X : ndarray of shape (n_periods, n_assets)
@@ -203,21 +258,17 @@ def cross_validate(
     solver = solver or default_solver()
     positive = positive or limits.long_only
     folds = splitter.split(len(y))
-    whole_scaling = fit_scaling(X, y)
     if blocks is not None and blocks.xtx.shape[1] != X.shape[1]:
         raise ValueError(
             f"blocks hold {blocks.xtx.shape[1]} constituents but X has {X.shape[1]}; build "
             "them on the same columns"
         )
-    scalings = [
-        fit_scaling(X[f.train_start : f.train_stop], y[f.train_start : f.train_stop])
-        if refit_scaling
-        else whole_scaling
-        for f in folds
-    ]
+    penalties = model_kind(spec.kind).penalties(spec)
+    whole_scaling, pilot_notes = _working_scaling(X, y, spec, splitter)
+    scalings = fold_scalings(X, y, spec, splitter, folds) if refit_scaling else [whole_scaling] * len(folds)
     spans = [(f.train_start, f.train_stop) for f in folds]
     # The grids need the Gram matrix of all rows only for ridge; otherwise X'y alone.
-    whole_gram = 0.0 in spec.l1_ratios
+    whole_gram = any(p.grid_needs_gram for p in penalties)
     if whole_gram:
         spans.insert(0, (0, len(y)))
         # The ridge grid is read off the Gram of all rows: built from shared blocks it would
@@ -249,8 +300,8 @@ def cross_validate(
     ]
     del grams
 
-    curves, notes = [], []
-    for l1_ratio in spec.l1_ratios:
+    curves, notes = [], [f"{spec.name}: {n}" for n in pilot_notes]
+    for l1_ratio, penalty in zip(spec.l1_ratios, penalties):
         label = f"{spec.name} (l1_ratio={l1_ratio:g})"
         alphas = penalty_grid(whole, l1_ratio, count, min_ratio, positive=positive)
         if len(alphas) == 0:
@@ -262,7 +313,7 @@ def cross_validate(
         for _ in range(max_extensions + 1):
             at = int(np.argmin(errors.mean(axis=1)))
             lower = at == len(alphas) - 1
-            upper = at == 0 and l1_ratio == 0.0
+            upper = at == 0 and not penalty.top_holds_nothing
             if not (lower or upper):
                 break
             if _ == max_extensions:
@@ -289,7 +340,7 @@ def cross_validate(
     if rule == "one_standard_error":
         limit = best.mean_error[ai] + best.std_error[ai]
         chosen = int(np.flatnonzero(best.mean_error <= limit)[0])
-    if spec.l1_ratios[ci] > 0 and chosen == 0:
+    if penalties[ci].top_holds_nothing and chosen == 0:
         why = "had the smallest CV error" if ai == 0 else "was chosen by the one-standard-error rule"
         notes.append(f"{spec.name}: the largest penalty, which holds no names, {why}")
     return CVResult(
@@ -304,4 +355,4 @@ def cross_validate(
     )
 
 
-__all__ = ["RULES", "Fold", "cross_validate", "window_bounds"]
+__all__ = ["RULES", "Fold", "cross_validate", "fold_scalings", "window_bounds"]

@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from trackfit.core.gram import GramData
+from trackfit.core.penalties import EIGENVALUE_GRID, L1_GRID, Penalty
 
 # Ridge grid: from 100x the largest eigenvalue of the standardized Gram (weights near zero) down
 # to 1e-6 of it (weights near OLS).
@@ -25,29 +26,45 @@ def alpha_max(data: GramData, l1_ratio: float, *, positive: bool = False) -> flo
     return max(top, 0.0) / l1_ratio
 
 
+def l1_grid(
+    data: GramData, l1_ratio: float, count: int, min_ratio: float, *, positive: bool = False
+) -> np.ndarray:
+    """From :func:`alpha_max` down to ``min_ratio * alpha_max``, log-spaced, as
+    scikit-learn's ``LassoCV`` builds its grid; empty when no weight can ever enter."""
+    top = alpha_max(data, l1_ratio, positive=positive)
+    if top == 0.0:
+        return np.zeros(0)
+    return np.logspace(np.log10(top), np.log10(top * min_ratio), count)
+
+
+def eigenvalue_grid(
+    data: GramData, l1_ratio: float, count: int, min_ratio: float, *, positive: bool = False
+) -> np.ndarray:
+    """A wide grid around the scale of the Gram matrix (``l1_ratio``, ``min_ratio`` and
+    ``positive`` ignored): from 100x its largest eigenvalue down to 1e-6 of it."""
+    lam = float(np.linalg.eigvalsh(data.gram)[-1]) if len(data.xty) else 1.0
+    lam = lam if lam > 0 else 1.0
+    return np.logspace(np.log10(lam * _RIDGE_TOP), np.log10(lam * _RIDGE_BOTTOM), count)
+
+
+_GRIDS = {L1_GRID: l1_grid, EIGENVALUE_GRID: eigenvalue_grid}
+
+
 def penalty_grid(
     data: GramData, l1_ratio: float, count: int, min_ratio: float, *, positive: bool = False
 ) -> np.ndarray:
-    """Decreasing log-spaced penalties.
+    """Decreasing log-spaced penalties, by the grid rule of the mix's :class:`Penalty`.
 
-    Lasso and elastic net (``l1_ratio > 0``): from :func:`alpha_max` down to
-    ``min_ratio * alpha_max``, as scikit-learn's ``LassoCV`` builds its grid. Ridge
-    (``l1_ratio == 0``): a wide grid around the scale of the Gram matrix, ignoring
-    ``min_ratio``.
+    Lasso and elastic net (an L1 term): :func:`l1_grid`. Ridge: :func:`eigenvalue_grid`,
+    which ignores ``min_ratio``.
 
     Returns
     -------
     ndarray of shape (count,)
         Empty when no weight can ever enter.
     """
-    if l1_ratio > 0:
-        top = alpha_max(data, l1_ratio, positive=positive)
-        if top == 0.0:
-            return np.zeros(0)
-        return np.logspace(np.log10(top), np.log10(top * min_ratio), count)
-    lam = float(np.linalg.eigvalsh(data.gram)[-1]) if len(data.xty) else 1.0
-    lam = lam if lam > 0 else 1.0
-    return np.logspace(np.log10(lam * _RIDGE_TOP), np.log10(lam * _RIDGE_BOTTOM), count)
+    rule = _GRIDS[Penalty(l1_ratio).grid_rule]
+    return rule(data, l1_ratio, count, min_ratio, positive=positive)
 
 
 def extend_grid(alphas: np.ndarray, *, lower: bool, decades: float = 2.0) -> np.ndarray:

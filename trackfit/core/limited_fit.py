@@ -18,6 +18,7 @@ from trackfit.core.constrained import limit_statuses, solve_limited
 from trackfit.core.fit import check_accuracy, fit_penalized
 from trackfit.core.gram import GramData, standardized_gram
 from trackfit.core.limits import Limits, LimitStatus
+from trackfit.core.penalties import Penalty
 from trackfit.core.results import FittedWeights, Scaling, SupportSearch
 from trackfit.core.scaling import fit_scaling, to_original_units
 from trackfit.core.solvers import default_solver
@@ -45,10 +46,11 @@ CV_SEARCH = SearchOptions(full_swaps=False, screen=2, forward=False)
 
 def needs_limited_engine(limits: Limits, l1_ratio: float) -> bool:
     """True when a fit needs the QP engine or the name search, False when the exact path
-    engine suffices (no limits, or long-only alone on lasso or elastic net)."""
+    engine suffices (no limits, or long-only alone on a penalty that engine solves with
+    positivity: lasso and elastic net, see :attr:`Penalty.path_engine_long_only`)."""
     return bool(
         limits.needs_qp
-        or (limits.long_only and l1_ratio == 0.0)
+        or (limits.long_only and not Penalty(l1_ratio).path_engine_long_only)
         or limits.max_names is not None
         or limits.min_position is not None
     )

@@ -1,20 +1,20 @@
-"""Parsers for ``models`` and ``hold``: which penalized models to fit and which one to hold."""
+"""Parsers for ``models`` and ``hold``: which penalized models to fit and which one to hold.
+
+Which kinds exist and which options each takes come from the core's registry
+(:data:`trackfit.core.models.MODEL_KINDS`); nothing here names a kind.
+"""
 
 from __future__ import annotations
 
 from typing import Any
 
-from trackfit.core.models import KINDS, ModelSpec
+from trackfit.core.models import KINDS, MODEL_KINDS, ModelSpec, OptionRule
 from trackfit.jobfile.checks import Reader, closest
 
 #: Always computed for comparison; may be held, never listed under ``models``.
 BASELINES = ("ols", "equal_weight")
-DEFAULT_L1_RATIOS = (0.25, 0.5, 0.75)
-DEFAULT_MODELS = (
-    ModelSpec("lasso", "lasso", (1.0,)),
-    ModelSpec("elastic_net", "elastic_net", DEFAULT_L1_RATIOS),
-    ModelSpec("ridge", "ridge", (0.0,)),
-)
+DEFAULT_L1_RATIOS = MODEL_KINDS["elastic_net"].spec().l1_ratios
+DEFAULT_MODELS = tuple(MODEL_KINDS[k].spec() for k in ("lasso", "elastic_net", "ridge"))
 
 
 def parse_models(r: Reader, value: Any) -> tuple[ModelSpec, ...]:
@@ -49,27 +49,48 @@ def _model_name(r: Reader, key: str, name: Any) -> str:
     raise r.bad(key, f"one of {', '.join(KINDS)}", name, suggest=closest(name, KINDS))
 
 
+def _with_options() -> str:
+    """"only elastic_net takes options (l1_ratio)", from the registry."""
+    kinds = [k for k in MODEL_KINDS.values() if k.options]
+    named = [f"{k.name} ({', '.join(o.name for o in k.options)})" for k in kinds]
+    if len(named) == 1:
+        return f"only {kinds[0].name} takes options ({', '.join(o.name for o in kinds[0].options)})"
+    return f"only {', '.join(named[:-1])} and {named[-1]} take options"
+
+
 def _model(r: Reader, name: str, options: Any) -> ModelSpec:
     key = f"models.{name}"
-    if name != "elastic_net":
+    kind = MODEL_KINDS[name]
+    if not kind.options:
         if options not in (None, {}):
-            raise r.bad(key, f"empty ('{name}: {{}}' or '{name}:'); only elastic_net takes options "
-                        "(l1_ratio)", options)
-        return ModelSpec(name, name, (1.0,) if name == "lasso" else (0.0,))
-    s = r.section(key, options, ("l1_ratio",))
-    ratios = s.get("l1_ratio")
-    if ratios is None:
-        return ModelSpec(name, name, DEFAULT_L1_RATIOS)
-    items = ratios if isinstance(ratios, list) else [ratios]
+            raise r.bad(key, f"empty ('{name}: {{}}' or '{name}:'); {_with_options()}", options)
+        return kind.spec()
+    s = r.section(key, options, tuple(o.name for o in kind.options))
+    values = {o.name: _option(r, f"{key}.{o.name}", o, s[o.name])
+              for o in kind.options if s.get(o.name) is not None}
+    return kind.spec(**values)
+
+
+def _number(r: Reader, key: str, rule: OptionRule, value: Any) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not rule.accepts(value):
+        raise r.bad(key, f"a number {rule.words}", value, "number")
+    return float(value)
+
+
+def _option(r: Reader, key: str, rule: OptionRule, value: Any) -> float | tuple[float, ...]:
+    """One option's value by its rule: a number, or for ``many`` a non-empty list of
+    distinct numbers (a single number is a one-element list)."""
+    if not rule.many:
+        return _number(r, key, rule, value)
+    items = value if isinstance(value, list) else [value]
     if not items:
-        raise r.bad(f"{key}.l1_ratio", "a number or a non-empty list of numbers strictly between "
-                    "0 and 1", ratios)
-    values = [r.fraction(f"{key}.l1_ratio[{i}]" if isinstance(ratios, list) else f"{key}.l1_ratio",
-                         v) for i, v in enumerate(items)]
+        raise r.bad(key, f"a number or a non-empty list of numbers {rule.words}", value)
+    values = [_number(r, f"{key}[{i}]" if isinstance(value, list) else key, rule, v)
+              for i, v in enumerate(items)]
     for i, v in enumerate(values):
         if v in values[:i]:
-            raise r.error(f"'{key}.l1_ratio' lists {items[i]!r} twice; list each value once")
-    return ModelSpec(name, name, tuple(values))
+            raise r.error(f"'{key}' lists {items[i]!r} twice; list each value once")
+    return tuple(values)
 
 
 def parse_hold(r: Reader, value: Any, models: tuple[ModelSpec, ...]) -> str:

@@ -96,7 +96,7 @@ def _job(job: Job) -> dict[str, Any]:
         "risk_free": risk_free,
         "data": dataclasses.asdict(job.data),
         "window": dataclasses.asdict(job.window),
-        "models": [dataclasses.asdict(m) for m in job.models],
+        "models": [_model_spec(m) for m in job.models],
         "hold": job.hold,
         "grid": dataclasses.asdict(job.grid),
         "cv": dataclasses.asdict(job.cv),
@@ -104,6 +104,16 @@ def _job(job: Job) -> dict[str, Any]:
         "limits": job_limits(job.limits, folder),
         "holdings": job_holdings(job.holdings, folder),
     }
+
+
+def _model_spec(model) -> dict[str, Any]:
+    # Options beyond the mixes appear only for kinds that take them, so summaries of jobs
+    # without such options keep their bytes.
+    spec = dataclasses.asdict(model)
+    params = spec.pop("params")
+    if params:
+        spec["options"] = dict(params)
+    return spec
 
 
 def _data(data: TrackingData) -> dict[str, Any]:

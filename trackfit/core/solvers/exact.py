@@ -7,6 +7,7 @@ from __future__ import annotations
 import numpy as np
 
 from trackfit.core.gram import GramData
+from trackfit.core.penalties import Penalty
 from trackfit.core.solvers.active_set import solve_enet
 from trackfit.core.solvers.base import PathSolution
 from trackfit.core.solvers.lars import lasso_path_gram
@@ -74,14 +75,15 @@ class ExactPathSolver:
     ) -> PathSolution:
         alphas = np.asarray(alphas, dtype=float)
         k = len(data.xty)
-        if l1_ratio == 0.0 and positive:
+        penalty = Penalty(l1_ratio)
+        if positive and not penalty.path_engine_long_only:
             raise SolverError("long-only ridge needs the constrained solver")
         # Solve in decreasing order whatever the order given, and hand back in the given order.
         order = np.argsort(-alphas, kind="stable")
         sorted_alphas = alphas[order]
         l1 = sorted_alphas * l1_ratio
         l2 = sorted_alphas * (1.0 - l1_ratio)
-        if l1_ratio == 0.0:
+        if not penalty.has_l1:
             coefs = ridge_path(data.gram, data.xty, sorted_alphas)  # one large eigh: all threads
             steps = np.ones(len(alphas), dtype=int)
             kkt = kkt_residuals(data, coefs, l1, l2, positive=positive)
