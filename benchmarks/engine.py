@@ -411,7 +411,7 @@ def walk_forward(args, targets: Targets) -> None:
         for (start, stop), row in zip(spans, rows.tolist()):
             Xw, yw = X[start:stop], y[start:stop]
             cv = choose_penalty(Xw, yw, Model.of(LASSO), design, blocks=blocks, row_offset=start)
-            out.append((cv, fit_model(Xw, yw, Model.of(LASSO), cv)))
+            out.append((cv, fit_model(Xw, yw, Model.of(LASSO), cv, design)))
         seconds = time.perf_counter() - t0
         # The fitter is the backtest's own object: it must give these very weights.
         assert fitter(int(rows[-1])).weights.tobytes() == out[-1][1].weights.tobytes()

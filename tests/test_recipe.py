@@ -24,7 +24,7 @@ name: same bytes
 benchmark: {{file: index.csv, column: idx}}
 constituents: [{{file: members.csv}}]
 window: {{lookback: 120, holdout: 0}}
-models: {{lasso: {{}}, ridge: {{}}, elastic_net: {{l1_ratio: [0.5]}}}}
+models: {{lasso: {{}}, ridge: {{}}, elastic_net: {{l1_ratio: [0.5]}}, adaptive_lasso: {{gamma: 1}}}}
 hold: {hold}
 penalty_grid: {{count: 10}}
 cross_validation: {{folds: 3}}
@@ -33,7 +33,9 @@ backtest: {{every: month_end, start: 2025-07-31}}
 
 
 @pytest.mark.parametrize("limits", sorted(LIMITS))
-@pytest.mark.parametrize("hold", ["lasso", "ridge", "elastic_net", "ols", "equal_weight"])
+@pytest.mark.parametrize(
+    "hold", ["lasso", "ridge", "elastic_net", "adaptive_lasso", "ols", "equal_weight"]
+)
 def test_a_backtest_rebalance_holds_what_fit_as_of_that_date_holds(tmp_path, hold, limits):
     job = load_job(write_small_job(tmp_path, JOB.format(hold=hold, limits=LIMITS[limits])))
     backtest = run_backtest_job(job)

@@ -68,7 +68,7 @@ class RebalanceFitter:
             cv = choose_penalty(
                 X, y, self.model, self.design, limits, blocks=self.blocks, row_offset=lo
             )
-            fit = fit_model(X, y, self.model, cv, limits)
+            fit = fit_model(X, y, self.model, cv, self.design, limits)
         except SolverError as exc:
             raise SolverError(f"rebalance {when}: {exc}") from None
         warnings = fit_warnings(self.model, fit, self.names, "the fit window", held=True)

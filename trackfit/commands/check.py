@@ -8,6 +8,7 @@ from pathlib import Path
 from trackfit.commands.fit_plan import FitPlan, plan_fit
 from trackfit.commands.prepare import day, prepare
 from trackfit.core.limits import Limits
+from trackfit.core.models import describe_model
 from trackfit.job import load_job
 from trackfit.report.limit_labels import linear_words, worded_linear
 
@@ -51,10 +52,7 @@ def describe_plan(plan: FitPlan) -> list[str]:
             f"({f.train_stop - f.train_start} rows), validate {day(d[f.val_start])} to "
             f"{day(d[f.val_stop - 1])} ({f.val_stop - f.val_start} rows)"
         )
-    models = ", ".join(
-        m.name + (f" (l1_ratio {', '.join(f'{r:g}' for r in m.l1_ratios)})" if m.kind == "elastic_net" else "")
-        for m in job.models
-    )
+    models = ", ".join(describe_model(m) for m in job.models)
     lines.append(f"models: {models}; baselines: ols, equal_weight; hold: {job.hold}")
     lines.append(f"penalty grid: {job.grid.count} penalties, min ratio {job.grid.min_ratio:g}")
     lines.append(f"output: {job.output.directory}")

@@ -17,6 +17,7 @@ from trackfit.commands.mandate import CurrentHoldings, build_limits
 from trackfit.core.constrained import RIDGE_FOR_UNIQUENESS, check_feasible
 from trackfit.core.folds import ForwardChaining
 from trackfit.core.limits import Limits
+from trackfit.core.models import model_kind
 from trackfit.data import TrackingData
 from trackfit.data.load import load_tracking_data
 from trackfit.data.series import AlignedSeries, align_series
@@ -154,7 +155,7 @@ def design_statements(
     """
     warnings, notes = [], []
     fully_invested = limits.budget is not None and limits.budget == (1.0, 1.0)
-    l1_models = [m.name for m in job.models if m.name in models and m.kind in ("lasso", "elastic_net")]
+    l1_models = [m.name for m in job.models if m.name in models and model_kind(m.kind).has_l1]
     if limits.long_only and fully_invested and l1_models:
         warnings.append(
             f"{', '.join(l1_models)}: under long-only and fully invested the weights always sum "

@@ -123,9 +123,11 @@ def run_holdout(
 
     def study(model: Model) -> ModelOutcome:
         cv = choose_penalty(Xt, yt, model, design, limits, solver=solver)
-        train_fit = fit_model(Xt, yt, model, cv, limits)
+        train_fit = fit_model(Xt, yt, model, cv, design, limits)
         final_fit = (
-            fit_model(X, y, model, cv, limits, start=held_support(train_fit), search=WARM_SEARCH)
+            fit_model(
+                X, y, model, cv, design, limits, start=held_support(train_fit), search=WARM_SEARCH
+            )
             if n_holdout
             else train_fit
         )
@@ -136,7 +138,7 @@ def run_holdout(
         extra = {}
         if limits.max_names is not None and model.kind != "equal_weight":
             # The same model at the same penalty without the name cap: what the cap costs.
-            free = fit_model(Xt, yt, model, cv, uncapped_limits)
+            free = fit_model(Xt, yt, model, cv, design, uncapped_limits)
             extra = {
                 "uncapped_in_sample": on_rows(free, Xt, yt),
                 "uncapped_holdout": on_rows(free, Xh, yh) if n_holdout else None,

@@ -19,6 +19,7 @@ from trackfit.core.folds import ForwardChaining
 from trackfit.core.gram import RowBlocks
 from trackfit.core.limited_fit import FULL_SEARCH, SearchOptions, fit_limited
 from trackfit.core.limits import NO_LIMITS, Limits
+from trackfit.core.model_fit import fit_model as fit_at_penalty
 from trackfit.core.models import ModelSpec
 from trackfit.core.results import CVResult, FittedWeights
 from trackfit.core.solvers import PathSolver
@@ -107,6 +108,7 @@ def fit_model(
     y: np.ndarray,
     model: Model,
     cv: CVResult | None,
+    design: StudyDesign,
     limits: Limits = NO_LIMITS,
     *,
     start: np.ndarray | None = None,
@@ -116,6 +118,8 @@ def fit_model(
 
     OLS is least squares under the limits (alpha 0); equal weights are the naive baseline and
     obey no limit. ``start`` seeds a max-names search with the names chosen on other rows.
+    A kind that chooses more on the rows it fits (the adaptive lasso's pilot) uses the
+    design's splitter for it.
     """
     if model.kind == "equal_weight":
         return equal_weights(X.shape[1])
@@ -123,7 +127,17 @@ def fit_model(
         if not limits.any:
             return fit_ols(X, y)
         return fit_limited(X, y, 0.0, 0.0, limits, start=start, search=search)
-    return fit_limited(X, y, cv.alpha, cv.l1_ratio, limits, start=start, search=search)
+    return fit_at_penalty(
+        X,
+        y,
+        model.spec,
+        cv.alpha,
+        cv.l1_ratio,
+        limits,
+        splitter=design.splitter,
+        start=start,
+        search=search,
+    )
 
 
 def held_support(fit: FittedWeights) -> np.ndarray | None:
