@@ -152,15 +152,20 @@ def weights(X, y):
     return model.coef_ / sx.scale_ * sy.scale_[0]
 '''
 
-REFERENCE_FIT = REFERENCE_COMMON + '''
+REFERENCE_FIT = (
+    REFERENCE_COMMON
+    + """
 
 folder, lookback, out = sys.argv[1], int(sys.argv[2]), sys.argv[3]
 dates, y, X = read(folder)
 w = weights(X.to_numpy()[-lookback:], y[-lookback:])
 pd.DataFrame({"name": X.columns, "weight": w}).to_csv(out, index=False, float_format="%.10f")
-'''
+"""
+)
 
-REFERENCE_BACKTEST = REFERENCE_COMMON + '''
+REFERENCE_BACKTEST = (
+    REFERENCE_COMMON
+    + """
 
 folder, lookback, rows_file, out = sys.argv[1], int(sys.argv[2]), sys.argv[3], sys.argv[4]
 dates, y, X = read(folder)
@@ -170,7 +175,8 @@ history = [(dates[r].date(), weights(values[r - lookback + 1 : r + 1], y[r - loo
            for r in rows]
 table = pd.DataFrame([w for _, w in history], index=[d for d, _ in history], columns=X.columns)
 table.to_csv(out, float_format="%.10f")
-'''
+"""
+)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -200,7 +206,9 @@ def median_of(cmds: dict[str, list[str]], repeats: int) -> dict[str, float]:
 def import_time(repeats: int) -> tuple[float, float]:
     """Median seconds of ``import trackfit.cli`` in a fresh process, and of the whole
     ``python -m trackfit.cli --help`` process."""
-    code = "import time; t = time.perf_counter(); import trackfit.cli; print(time.perf_counter() - t)"
+    code = (
+        "import time; t = time.perf_counter(); import trackfit.cli; print(time.perf_counter() - t)"
+    )
     imports, helps = [], []
     for _ in range(max(repeats, 5)):
         done = subprocess.run(
@@ -291,15 +299,27 @@ def main() -> None:
     quiet = ["-q", "--no-figures", "--no-warnings-exit"]
     cases = {
         "fit": {
-            "trackfit": tf + ["fit", str(fit_dir / "job.yaml"), "--out", str(fit_dir / "out"), *quiet],
-            "reference": [py, str(root / "reference_fit.py"), str(fit_dir), str(rows),
-                          str(fit_dir / "reference_weights.csv")],
+            "trackfit": tf
+            + ["fit", str(fit_dir / "job.yaml"), "--out", str(fit_dir / "out"), *quiet],
+            "reference": [
+                py,
+                str(root / "reference_fit.py"),
+                str(fit_dir),
+                str(rows),
+                str(fit_dir / "reference_weights.csv"),
+            ],
         },
         "backtest": {
-            "trackfit": tf + ["backtest", str(bt_dir / "job.yaml"), "--out", str(bt_dir / "out"),
-                              *quiet],
-            "reference": [py, str(root / "reference_backtest.py"), str(bt_dir), str(window),
-                          str(bt_dir / "rows.txt"), str(bt_dir / "reference_weights.csv")],
+            "trackfit": tf
+            + ["backtest", str(bt_dir / "job.yaml"), "--out", str(bt_dir / "out"), *quiet],
+            "reference": [
+                py,
+                str(root / "reference_backtest.py"),
+                str(bt_dir),
+                str(window),
+                str(bt_dir / "rows.txt"),
+                str(bt_dir / "reference_weights.csv"),
+            ],
         },
     }
     run(tf + ["check", str(fit_dir / "job.yaml")])
@@ -326,10 +346,14 @@ def main() -> None:
 
     print()
     print(f"fit: {rows} rows x {p} names, lasso, 5 expanding folds, 100-point grid, no holdout")
-    print(f"backtest: {len(rebalances)} month ends from {rebalances[0]} to {rebalances[-1]}, "
-          f"rolling {window}-row window, {p_bt} names, {total} rows")
-    print(f"largest weight difference, fit: "
-          f"{weight_gap(fit_dir / 'out' / 'weights.csv', fit_dir / 'reference_weights.csv'):.2e}")
+    print(
+        f"backtest: {len(rebalances)} month ends from {rebalances[0]} to {rebalances[-1]}, "
+        f"rolling {window}-row window, {p_bt} names, {total} rows"
+    )
+    print(
+        f"largest weight difference, fit: "
+        f"{weight_gap(fit_dir / 'out' / 'weights.csv', fit_dir / 'reference_weights.csv'):.2e}"
+    )
     print()
     head = f"{'case':<10} {'trackfit s':>11} {'reference s':>12} {'ratio':>7} {'target':>7}  result"
     print(head)
@@ -337,8 +361,10 @@ def main() -> None:
     for name, t in results.items():
         ratio = t["reference"] / t["trackfit"]
         verdict = "PASS" if ratio >= TARGETS[name] else "FAIL"
-        print(f"{name:<10} {t['trackfit']:>11.3f} {t['reference']:>12.3f} {ratio:>6.2f}x "
-              f"{'>= ' + format(TARGETS[name], 'g') + 'x':>7}  {verdict}")
+        print(
+            f"{name:<10} {t['trackfit']:>11.3f} {t['reference']:>12.3f} {ratio:>6.2f}x "
+            f"{'>= ' + format(TARGETS[name], 'g') + 'x':>7}  {verdict}"
+        )
     print()
     print(f"load average at the end: {os.getloadavg()[0]:.2f}")
     print(f"import trackfit.cli: {imp:.3f} s; whole `python -m trackfit.cli --help`: {helps:.3f} s")
@@ -346,8 +372,10 @@ def main() -> None:
         ratio = mine / theirs
         verdict = "PASS" if ratio <= TARGETS["csv"] else "FAIL"
         size = path.stat().st_size / 2**20
-        print(f"CSV read ({label}, {size:.1f} MB): trackfit {mine:.3f} s, pandas.read_csv "
-              f"{theirs:.3f} s, {ratio:.2f}x (target <= {TARGETS['csv']:g}x)  {verdict}")
+        print(
+            f"CSV read ({label}, {size:.1f} MB): trackfit {mine:.3f} s, pandas.read_csv "
+            f"{theirs:.3f} s, {ratio:.2f}x (target <= {TARGETS['csv']:g}x)  {verdict}"
+        )
     if not args.keep:
         shutil.rmtree(root)
 

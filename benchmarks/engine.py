@@ -195,8 +195,12 @@ def sklearn_solve(X: np.ndarray, y: np.ndarray, spec: ModelSpec, tol: float = 1e
         )
     else:
         model = ElasticNetCV(
-            l1_ratio=list(spec.l1_ratios), alphas=COUNT, eps=MIN_RATIO,
-            cv=TimeSeriesSplit(FOLDS), fit_intercept=False, **extra,
+            l1_ratio=list(spec.l1_ratios),
+            alphas=COUNT,
+            eps=MIN_RATIO,
+            cv=TimeSeriesSplit(FOLDS),
+            fit_intercept=False,
+            **extra,
         )
     gc.collect()
     with warnings.catch_warnings(record=True) as caught:
@@ -332,7 +336,7 @@ def size_cases(name: str, X: np.ndarray, y: np.ndarray, args, targets: Targets) 
     if "enet" in args.cases:
         plans.append(("enet", ENET, [1e-4]))
     for label, spec, tols in plans:
-        times, t = timed(lambda: trackfit_solve(Xs, ys, spec), args.repeats)
+        times, t = timed(lambda spec=spec: trackfit_solve(Xs, ys, spec), args.repeats)
         rt = _row(f"{label} CV", "trackfit", times, t, Xs, ys)
         print_row(rt)
         _say(f"(last run: cross_validate {t.split[0]:.3f} s + refit {t.split[1]:.3f} s)")
@@ -350,9 +354,13 @@ def size_cases(name: str, X: np.ndarray, y: np.ndarray, args, targets: Targets) 
         for tol in tols:
             tag = f"tol={tol:.0e}".replace("e-0", "e-")
             if tol == 1e-4:
-                s_times, s = timed(lambda: sklearn_solve(Xs, ys, spec, tol), args.repeats)
+                s_times, s = timed(
+                    lambda spec=spec, tol=tol: sklearn_solve(Xs, ys, spec, tol), args.repeats
+                )
             else:
-                s = in_child(lambda: sklearn_solve(Xs, ys, spec, tol), args.slow_limit)
+                s = in_child(
+                    lambda spec=spec, tol=tol: sklearn_solve(Xs, ys, spec, tol), args.slow_limit
+                )
                 if s is None:
                     ratio = args.slow_limit / rt.median
                     case = f"{label} {tag}"
@@ -403,12 +411,18 @@ def walk_forward(args, targets: Targets) -> None:
         rows = np.array([e - 1 for e in ends])
         blocks, note = shared_blocks(X, y, rows, window, design.splitter, BacktestSpec.memory_mb)
         fitter = RebalanceFitter(
-            X=X, y=y, dates=np.arange(len(y)).astype("datetime64[D]"),
-            names=tuple(f"n{j}" for j in range(p)), model=Model.of(LASSO), design=design,
-            limits=NO_LIMITS, lookback=window, blocks=blocks,
+            X=X,
+            y=y,
+            dates=np.arange(len(y)).astype("datetime64[D]"),
+            names=tuple(f"n{j}" for j in range(p)),
+            model=Model.of(LASSO),
+            design=design,
+            limits=NO_LIMITS,
+            lookback=window,
+            blocks=blocks,
         )
         out = []
-        for (start, stop), row in zip(spans, rows.tolist()):
+        for start, stop in spans:
             Xw, yw = X[start:stop], y[start:stop]
             cv = choose_penalty(Xw, yw, Model.of(LASSO), design, blocks=blocks, row_offset=start)
             out.append((cv, fit_model(Xw, yw, Model.of(LASSO), cv, design)))
@@ -600,8 +614,10 @@ def main(argv: list[str] | None = None) -> None:
         found = ", ".join(f"{k}={v}" for k, v in _FOUND.items())
         print(f"threads: {args.threads} (environment as found: {found})")
         for lib in threadpool_info():
-            print(f"  {lib['user_api']}/{lib['internal_api']} {lib.get('version')}: "
-                  f"{lib['num_threads']} threads")
+            print(
+                f"  {lib['user_api']}/{lib['internal_api']} {lib.get('version')}: "
+                f"{lib['num_threads']} threads"
+            )
         mode = "quick (rows and columns / 4)" if args.quick else "full"
         print(f"cpu cores: {os.cpu_count()}; numpy {np.__version__}; mode: {mode}")
         targets = Targets()

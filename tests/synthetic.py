@@ -27,9 +27,7 @@ class Sample:
     weights: np.ndarray
 
 
-def _true_weights(
-    rng: np.random.Generator, n_assets: int, n_held: int, n_short: int
-) -> np.ndarray:
+def _true_weights(rng: np.random.Generator, n_assets: int, n_held: int, n_short: int) -> np.ndarray:
     held = np.sort(rng.choice(n_assets, n_held, replace=False))
     w = np.zeros(n_assets)
     w[held] = rng.dirichlet(np.full(n_held, 2.0))

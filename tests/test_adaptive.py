@@ -57,12 +57,14 @@ def test_equals_sklearn_lasso_on_reweighted_columns(gamma, positive):
     for alpha in top * np.array([0.5, 0.1, 0.02]):
         fit = fit_model(X, y, spec, alpha, 1.0, limits, splitter=SPLITTER)
         # Reference: scikit-learn's Lasso at tight tolerance on the same columns and alpha.
-        ref = Lasso(alpha=alpha, fit_intercept=False, tol=1e-12, max_iter=10**6,
-                    positive=positive).fit(Z, ys)
+        ref = Lasso(
+            alpha=alpha, fit_intercept=False, tol=1e-12, max_iter=10**6, positive=positive
+        ).fit(Z, ys)
         b_std = ref.coef_ * np.abs(done.pilot) ** gamma  # back to the true standardized units
         np.testing.assert_allclose(fit.coef_std, b_std, atol=1e-9)
-        np.testing.assert_allclose(fit.weights, b_std * scaling.y_scale / scaling.x_scale,
-                                   atol=1e-9)
+        np.testing.assert_allclose(
+            fit.weights, b_std * scaling.y_scale / scaling.x_scale, atol=1e-9
+        )
         assert fit.kkt_residual < KKT_LIMIT
 
 
@@ -73,11 +75,13 @@ def test_weights_use_the_true_scale():
     true = fit_scaling(X, y)
     np.testing.assert_array_equal(fit.scaling.x_scale, true.x_scale)
     np.testing.assert_array_equal(fit.scaling.usable, true.usable)
-    np.testing.assert_allclose(fit.weights, fit.coef_std * true.y_scale / true.x_scale,
-                               rtol=1e-13, atol=1e-16)
+    np.testing.assert_allclose(
+        fit.weights, fit.coef_std * true.y_scale / true.x_scale, rtol=1e-13, atol=1e-16
+    )
     # The same fitted benchmark whichever units the weights are read in.
-    np.testing.assert_allclose(X @ fit.weights, (X / true.x_scale) @ fit.coef_std * true.y_scale,
-                               rtol=1e-12)
+    np.testing.assert_allclose(
+        X @ fit.weights, (X / true.x_scale) @ fit.coef_std * true.y_scale, rtol=1e-12
+    )
 
 
 def test_recovers_a_sparse_truth_with_fewer_false_names_than_lasso():
@@ -135,10 +139,14 @@ def test_pilot_splitter_falls_back_then_fails():
     assert "5 folds with at least 2 training rows" in note
     fewer, _ = pilot_splitter(ForwardChaining(5, min_train=30, gap=2), 8)
     assert fewer == ForwardChaining(4, min_train=2, gap=2)
-    with pytest.raises(SolverError, match=re.escape(
+    with pytest.raises(
+        SolverError,
+        match=re.escape(
             "the adaptive lasso's pilot ridge: 5 rows cannot hold even 2 cross-validation folds "
             "with gap 2 to choose its penalty; lengthen the window or lower "
-            "cross_validation.gap")):
+            "cross_validation.gap"
+        ),
+    ):
         pilot_splitter(ForwardChaining(5, min_train=30, gap=2), 5)
 
 
@@ -155,15 +163,20 @@ def test_too_few_rows_for_any_pilot_says_so():
     X, y, _ = _factor_data(6, n=24)
     splitter = ForwardChaining(5, min_train=2, gap=3)
     assert splitter.split(24)[0].train_stop == 6  # too few rows for 2 pilot folds and a gap of 3
-    with pytest.raises(SolverError, match=re.escape(
+    with pytest.raises(
+        SolverError,
+        match=re.escape(
             "adaptive_lasso, fold 1 (training rows 0 to 5): the adaptive lasso's pilot ridge: 6 "
-            "rows cannot hold even 2 cross-validation folds with gap 3")):
+            "rows cannot hold even 2 cross-validation folds with gap 3"
+        ),
+    ):
         cross_validate(X, y, ADAPTIVE, splitter)
 
 
 def test_zero_pilot_weight_makes_a_name_unusable():
-    scaling = Scaling(x_scale=np.array([2.0, 3.0, 1.0]), y_scale=0.5,
-                      usable=np.array([True, True, False]))
+    scaling = Scaling(
+        x_scale=np.array([2.0, 3.0, 1.0]), y_scale=0.5, usable=np.array([True, True, False])
+    )
     out = reweighted_scaling(scaling, np.array([0.5, 0.0, 0.7]))
     np.testing.assert_array_equal(out.usable, [True, False, False])
     np.testing.assert_array_equal(out.x_scale, [4.0, 1.0, 1.0])
@@ -173,14 +186,17 @@ def test_zero_pilot_weight_makes_a_name_unusable():
 B = "benchmark: {file: index.csv, column: lbx60}\nconstituents: {file: constituents.csv}\n"
 
 
-@pytest.mark.parametrize("text, gamma", [
-    ("models: {adaptive_lasso: {gamma: 1}}\n", 1.0),
-    ("models: {adaptive_lasso: {gamma: 0.5}}\n", 0.5),
-    ("models: {adaptive_lasso: {gamma: 2}}\n", 2.0),
-    ("models: {adaptive_lasso: }\n", 1.0),
-    ("models: {adaptive_lasso: {gamma: null}}\n", 1.0),
-    ("models: [lasso, adaptive_lasso]\n", 1.0),
-])
+@pytest.mark.parametrize(
+    "text, gamma",
+    [
+        ("models: {adaptive_lasso: {gamma: 1}}\n", 1.0),
+        ("models: {adaptive_lasso: {gamma: 0.5}}\n", 0.5),
+        ("models: {adaptive_lasso: {gamma: 2}}\n", 2.0),
+        ("models: {adaptive_lasso: }\n", 1.0),
+        ("models: {adaptive_lasso: {gamma: null}}\n", 1.0),
+        ("models: [lasso, adaptive_lasso]\n", 1.0),
+    ],
+)
 def test_gamma_parses(tmp_path: Path, text, gamma):
     (tmp_path / "job.yaml").write_text(B + text, encoding="utf-8")
     spec = load_job(tmp_path / "job.yaml").models[-1]
@@ -188,22 +204,42 @@ def test_gamma_parses(tmp_path: Path, text, gamma):
     assert spec.param("gamma") == gamma
 
 
-@pytest.mark.parametrize("text, message", [
-    ("{gamma: 0}", "'models.adaptive_lasso.gamma' must be a number greater than 0; got 0."),
-    ("{gamma: -1}", "'models.adaptive_lasso.gamma' must be a number greater than 0; got -1."),
-    ("{gamma: .inf}", "'models.adaptive_lasso.gamma' must be a number greater than 0; got inf."),
-    ("{gamma: .nan}", "'models.adaptive_lasso.gamma' must be a number greater than 0; got nan."),
-    ("{gamma: true}", "'models.adaptive_lasso.gamma' must be a number greater than 0; got True."),
-    ("{gamma: '1'}", ("'models.adaptive_lasso.gamma' must be a number greater than 0; got '1' "
-                      "(text, not a number; remove the quotes).")),
-    ("{gamma: [1, 2]}", ("'models.adaptive_lasso.gamma' must be a number greater than 0; got "
-                         "[1, 2].")),
-    ("{gammas: 1}", "unknown key 'models.adaptive_lasso.gammas'; did you mean 'gamma'?"),
-    ("{l1_ratio: 0.5}", "unknown key 'models.adaptive_lasso.l1_ratio'; allowed: gamma"),
-    ("[1]", "'models.adaptive_lasso' must be a mapping with keys among 'gamma'; got [1]."),
-])
+@pytest.mark.parametrize(
+    "text, message",
+    [
+        ("{gamma: 0}", "'models.adaptive_lasso.gamma' must be a number greater than 0; got 0."),
+        ("{gamma: -1}", "'models.adaptive_lasso.gamma' must be a number greater than 0; got -1."),
+        (
+            "{gamma: .inf}",
+            "'models.adaptive_lasso.gamma' must be a number greater than 0; got inf.",
+        ),
+        (
+            "{gamma: .nan}",
+            "'models.adaptive_lasso.gamma' must be a number greater than 0; got nan.",
+        ),
+        (
+            "{gamma: true}",
+            "'models.adaptive_lasso.gamma' must be a number greater than 0; got True.",
+        ),
+        (
+            "{gamma: '1'}",
+            (
+                "'models.adaptive_lasso.gamma' must be a number greater than 0; got '1' "
+                "(text, not a number; remove the quotes)."
+            ),
+        ),
+        (
+            "{gamma: [1, 2]}",
+            ("'models.adaptive_lasso.gamma' must be a number greater than 0; got [1, 2]."),
+        ),
+        ("{gammas: 1}", "unknown key 'models.adaptive_lasso.gammas'; did you mean 'gamma'?"),
+        ("{l1_ratio: 0.5}", "unknown key 'models.adaptive_lasso.l1_ratio'; allowed: gamma"),
+        ("[1]", "'models.adaptive_lasso' must be a mapping with keys among 'gamma'; got [1]."),
+    ],
+)
 def test_bad_gamma(tmp_path: Path, text, message):
-    (tmp_path / "job.yaml").write_text(B + f"models: {{adaptive_lasso: {text}}}\n",
-                                       encoding="utf-8")
+    (tmp_path / "job.yaml").write_text(
+        B + f"models: {{adaptive_lasso: {text}}}\n", encoding="utf-8"
+    )
     with pytest.raises(JobError, match=re.escape(message)):
         load_job(tmp_path / "job.yaml")

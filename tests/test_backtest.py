@@ -59,8 +59,16 @@ def _fixed(targets: dict[int, np.ndarray], calls: list | None = None):
 def _hand(mode="buy_and_hold", cost_bps=0.0, rows=(0, 2), targets=None, **kw) -> BacktestResult:
     targets = targets or {0: W0, 2: W2}
     return run_backtest(
-        HAND_R, HAND_B, HAND_RF, np.array(rows), _fixed(targets), mode=mode,
-        cost_bps=cost_bps, periods_per_year=4, coupled=kw.pop("coupled", False), **kw,
+        HAND_R,
+        HAND_B,
+        HAND_RF,
+        np.array(rows),
+        _fixed(targets),
+        mode=mode,
+        cost_bps=cost_bps,
+        periods_per_year=4,
+        coupled=kw.pop("coupled", False),
+        **kw,
     )
 
 
@@ -186,8 +194,14 @@ def test_exact_constant_mix_benchmark_tracks_to_machine_precision():
     rf = rng.normal(0.0001, 0.00002, size=len(bench))  # earns nothing: no cash is held
     rows = np.arange(10, len(bench), 21)
     res = run_backtest(
-        R, bench, rf, rows, _fixed(dict.fromkeys(rows.tolist(), w)),
-        mode="constant_mix", periods_per_year=252, coupled=False,
+        R,
+        bench,
+        rf,
+        rows,
+        _fixed(dict.fromkeys(rows.tolist(), w)),
+        mode="constant_mix",
+        periods_per_year=252,
+        coupled=False,
     )
     assert res.metrics.tracking_error < 1e-12
     assert np.max(np.abs(res.active)) < 1e-15
@@ -261,7 +275,12 @@ def test_fit_at_sees_only_rows_up_to_its_rebalance_row():
     R, bench, rows = _lookahead_case()
     seen: list = []
     res = run_backtest(
-        R, bench, None, rows, _lookahead_harness(R, bench, seen), periods_per_year=52,
+        R,
+        bench,
+        None,
+        rows,
+        _lookahead_harness(R, bench, seen),
+        periods_per_year=52,
         coupled=False,
     )
     assert [r for r, _ in seen] == rows.tolist()
@@ -277,8 +296,14 @@ def test_fit_at_sees_only_rows_up_to_its_rebalance_row():
 def test_changing_returns_after_a_rebalance_row_never_changes_its_target(j):
     R, bench, rows = _lookahead_case()
     base = run_backtest(
-        R, bench, None, rows, _lookahead_harness(R, bench, []), cost_bps=3.0,
-        periods_per_year=52, coupled=False,
+        R,
+        bench,
+        None,
+        rows,
+        _lookahead_harness(R, bench, []),
+        cost_bps=3.0,
+        periods_per_year=52,
+        coupled=False,
     )
     r = int(rows[j])
     R2, b2 = R.copy(), bench.copy()
@@ -286,8 +311,14 @@ def test_changing_returns_after_a_rebalance_row_never_changes_its_target(j):
     R2[r + 1 :] += rng.normal(0.0, 0.05, size=R2[r + 1 :].shape)
     b2[r + 1 :] += rng.normal(0.0, 0.05, size=b2[r + 1 :].shape)
     moved = run_backtest(
-        R2, b2, None, rows, _lookahead_harness(R2, b2, []), cost_bps=3.0,
-        periods_per_year=52, coupled=False,
+        R2,
+        b2,
+        None,
+        rows,
+        _lookahead_harness(R2, b2, []),
+        cost_bps=3.0,
+        periods_per_year=52,
+        coupled=False,
     )
     np.testing.assert_array_equal(moved.targets[: j + 1], base.targets[: j + 1])
     np.testing.assert_array_equal(moved.turnover[: j + 1], base.turnover[: j + 1])
@@ -325,8 +356,15 @@ def test_parallel_threads_equal_serial():
 
     def run(parallel):
         return run_backtest(
-            R, bench, None, rows, _lookahead_harness(R, bench, []), cost_bps=2.0,
-            periods_per_year=52, coupled=False, parallel=parallel,
+            R,
+            bench,
+            None,
+            rows,
+            _lookahead_harness(R, bench, []),
+            cost_bps=2.0,
+            periods_per_year=52,
+            coupled=False,
+            parallel=parallel,
         )
 
     _assert_same(run(threads), run(None))
@@ -355,8 +393,16 @@ def test_coupled_runs_in_order_with_drifted_holdings(mode):
         raise AssertionError("a coupled backtest must not use the parallel map")
 
     res = run_backtest(
-        R, bench, None, rows, _damped(R, bench, calls), mode=mode, cost_bps=4.0,
-        periods_per_year=52, coupled=True, parallel=never,
+        R,
+        bench,
+        None,
+        rows,
+        _damped(R, bench, calls),
+        mode=mode,
+        cost_bps=4.0,
+        periods_per_year=52,
+        coupled=True,
+        parallel=never,
     )
     assert [r for r, _ in calls] == rows.tolist()
     assert calls[0][1] is None
@@ -389,9 +435,7 @@ def test_uncoupled_passes_no_holdings_and_equals_coupled_when_the_fit_ignores_th
         R, bench, None, rows, recording, cost_bps=4.0, periods_per_year=52, coupled=False
     )
     assert calls == [None] * len(rows)
-    tight = run_backtest(
-        R, bench, None, rows, ls, cost_bps=4.0, periods_per_year=52, coupled=True
-    )
+    tight = run_backtest(R, bench, None, rows, ls, cost_bps=4.0, periods_per_year=52, coupled=True)
     _assert_same(loose, tight)
 
 
@@ -400,9 +444,15 @@ def test_uncoupled_passes_no_holdings_and_equals_coupled_when_the_fit_ignores_th
 
 def _call(**overrides):
     kwargs = dict(
-        total_returns=HAND_R, benchmark_total=HAND_B, risk_free=HAND_RF,
-        rebalance=np.array([0, 2]), fit_at=_fixed({0: W0, 2: W2}), mode="buy_and_hold",
-        cost_bps=0.0, periods_per_year=4, coupled=False,
+        total_returns=HAND_R,
+        benchmark_total=HAND_B,
+        risk_free=HAND_RF,
+        rebalance=np.array([0, 2]),
+        fit_at=_fixed({0: W0, 2: W2}),
+        mode="buy_and_hold",
+        cost_bps=0.0,
+        periods_per_year=4,
+        coupled=False,
     )
     kwargs.update(overrides)
     return run_backtest(**kwargs)
@@ -415,10 +465,14 @@ def _call(**overrides):
         (dict(total_returns=HAND_R[:1]), r"'total_returns' .* >= 2 rows"),
         (dict(benchmark_total=HAND_B[:4]), r"'benchmark_total' .* length 5\. Got shape \(4,\)"),
         (dict(risk_free=HAND_RF[:, None]), r"'risk_free' .* None or a 1-d array of length 5"),
-        (dict(total_returns=np.where(np.arange(15).reshape(5, 3) == 7, np.nan, HAND_R)),
-         r"'total_returns' .* must be finite\. Got a nan or inf at row 2, column 1"),
-        (dict(benchmark_total=np.array([0, 0, np.inf, 0, 0.0])),
-         r"'benchmark_total' .* finite\. Got a nan or inf at row 2\."),
+        (
+            dict(total_returns=np.where(np.arange(15).reshape(5, 3) == 7, np.nan, HAND_R)),
+            r"'total_returns' .* must be finite\. Got a nan or inf at row 2, column 1",
+        ),
+        (
+            dict(benchmark_total=np.array([0, 0, np.inf, 0, 0.0])),
+            r"'benchmark_total' .* finite\. Got a nan or inf at row 2\.",
+        ),
         (dict(rebalance=np.array([], dtype=int)), r"'rebalance' .* non-empty 1-d array of int"),
         (dict(rebalance=np.array([0.0, 2.0])), r"'rebalance' .* int rows\. Got float64"),
         (dict(rebalance=np.array([2, 0])), r"'rebalance' .* strictly increasing\. Got \[2, 0\]"),
@@ -433,12 +487,18 @@ def _call(**overrides):
         (dict(cost_bps=True), r"'cost_bps' .* Got True"),
         (dict(periods_per_year=0), r"'periods_per_year' .* int >= 1\. Got 0"),
         (dict(periods_per_year=12.0), r"'periods_per_year' .* Got 12\.0"),
-        (dict(fit_at=lambda row, current: W0),
-         r"must return a RebalanceFit\. Got ndarray at row 0"),
-        (dict(fit_at=_fixed({0: W0[:2], 2: W2})),
-         r"weights of shape \(2,\) at row 0; expected \(3,\)"),
-        (dict(fit_at=_fixed({0: W0, 2: np.array([0.1, np.nan, 0.1])})),
-         r"non-finite weights at row 2"),
+        (
+            dict(fit_at=lambda row, current: W0),
+            r"must return a RebalanceFit\. Got ndarray at row 0",
+        ),
+        (
+            dict(fit_at=_fixed({0: W0[:2], 2: W2})),
+            r"weights of shape \(2,\) at row 0; expected \(3,\)",
+        ),
+        (
+            dict(fit_at=_fixed({0: W0, 2: np.array([0.1, np.nan, 0.1])})),
+            r"non-finite weights at row 2",
+        ),
         (dict(parallel=lambda fn, rows: [fn(rows[0])]), r"returned 1 fits for 2 rebalance rows"),
     ],
 )
@@ -450,12 +510,21 @@ def test_errors(overrides, match):
 def test_value_falling_to_zero_is_an_error():
     R = HAND_R.copy()
     R[3] = [-1.5, 0.0, 0.0]
-    with pytest.raises(ValueError, match=r"fell to zero or below at row 3 \(holding the "
-                       r"weights set at row 2\)"):
+    with pytest.raises(
+        ValueError,
+        match=r"fell to zero or below at row 3 \(holding the "
+        r"weights set at row 2\)",
+    ):
         _call(total_returns=R, fit_at=_fixed({0: W0, 2: np.array([1.0, 0.0, 0.0])}))
     with pytest.raises(ValueError, match=r"fell to zero or below at row 3"):
-        _call(total_returns=R, mode="constant_mix",
-              fit_at=_fixed({0: W0, 2: np.array([1.0, 0.0, 0.0])}))
-    with pytest.raises(ValueError, match=r"fell to zero or below at row 1 \(holding the "
-                       r"weights set at row 0\)"):
+        _call(
+            total_returns=R,
+            mode="constant_mix",
+            fit_at=_fixed({0: W0, 2: np.array([1.0, 0.0, 0.0])}),
+        )
+    with pytest.raises(
+        ValueError,
+        match=r"fell to zero or below at row 1 \(holding the "
+        r"weights set at row 0\)",
+    ):
         _call(cost_bps=2e4, fit_at=_fixed({0: np.array([0.5, 0.5, 0.0]), 2: W2}))

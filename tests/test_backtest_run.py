@@ -99,7 +99,8 @@ def test_bad_schedules_are_explained(tmp_path, section, error, match):
 
 def test_a_rolling_default_without_lookback_is_a_job_error(tmp_path):
     text = JOB.replace("window: {lookback: 120}\n", "").replace(
-        "backtest: {every: month_end, start: 2025-07-31, cost_bps: 5}\n", "")
+        "backtest: {every: month_end, start: 2025-07-31, cost_bps: 5}\n", ""
+    )
     job = load_job(write_small_job(tmp_path, text))
     with pytest.raises(JobError, match="window.lookback"):
         run_backtest_job(job)
@@ -120,5 +121,11 @@ def test_output_folder_layouts():
 
 def test_the_job_section_is_parsed(tmp_path):
     job = load_job(write_small_job(tmp_path))
-    assert job.backtest == replace(job.backtest, every="month_end", start=date(2025, 7, 31),
-                                   cost_bps=5.0, window="rolling", mode="buy_and_hold")
+    assert job.backtest == replace(
+        job.backtest,
+        every="month_end",
+        start=date(2025, 7, 31),
+        cost_bps=5.0,
+        window="rolling",
+        mode="buy_and_hold",
+    )

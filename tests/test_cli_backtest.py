@@ -64,8 +64,7 @@ def test_the_files_agree_with_each_other(runs):
         day, _name, w = line.split(",")
         by_date[day] = by_date.get(day, 0.0) + float(w)
     assert all(abs(total - 1.0) < 1e-8 for total in by_date.values())  # names + cash
-    returns = np.loadtxt(outs[0] / "returns.csv", delimiter=",", skiprows=1,
-                         usecols=(1, 2, 3))
+    returns = np.loadtxt(outs[0] / "returns.csv", delimiter=",", skiprows=1, usecols=(1, 2, 3))
     np.testing.assert_allclose(returns[:, 0] - returns[:, 1], returns[:, 2], atol=2e-10)
     summary = json.loads((outs[0] / "summary.json").read_text())
     assert summary["schedule"]["rebalances"] == len(by_date)
@@ -81,8 +80,17 @@ def test_the_files_agree_with_each_other(runs):
 
 def test_dated_layout_writes_into_a_folder_named_by_the_as_of_date(tmp_path):
     job = write_small_job(tmp_path)
-    result = _run("backtest", job, "--out", tmp_path / "out", "--layout", "dated",
-                  "--as-of", "2025-12-15", "--quiet")
+    result = _run(
+        "backtest",
+        job,
+        "--out",
+        tmp_path / "out",
+        "--layout",
+        "dated",
+        "--as-of",
+        "2025-12-15",
+        "--quiet",
+    )
     assert result.exit_code == 0, result.stderr
     folder = tmp_path / "out" / "2025-12-15"
     assert result.stdout.splitlines() == [str(folder / name) for name in FILES + FIGURES]
@@ -174,9 +182,18 @@ def test_dask_backend_equals_serial(runs, tmp_path):
     from dask.distributed import LocalCluster
 
     job, outs, _ = runs
-    with LocalCluster(n_workers=2, threads_per_worker=1, host="127.0.0.1",
-                      dashboard_address=None, processes=True) as cluster:
-        result = _run("backtest", job, "--out", tmp_path / "dask", "--backend", "dask",
-                      "--scheduler", cluster.scheduler_address)
+    with LocalCluster(
+        n_workers=2, threads_per_worker=1, host="127.0.0.1", dashboard_address=None, processes=True
+    ) as cluster:
+        result = _run(
+            "backtest",
+            job,
+            "--out",
+            tmp_path / "dask",
+            "--backend",
+            "dask",
+            "--scheduler",
+            cluster.scheduler_address,
+        )
     assert result.exit_code == 0, result.stderr
     assert _bytes(tmp_path / "dask") == _bytes(outs[0])

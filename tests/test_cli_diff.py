@@ -65,8 +65,13 @@ def test_json(files):
     assert tree["counts"] == {"added": 1, "dropped": 1, "changed": 1, "unchanged": 1}
     assert tree["cash"] == {"old": 0.0, "new": 0.05, "change": 0.05}
     assert [c["name"] for c in tree["changes"]] == ["d", "c", "a"]
-    assert tree["changes"][2] == {"name": "a", "old": 0.5, "new": 0.4, "change": -0.1,
-                                  "action": "decreased"}
+    assert tree["changes"][2] == {
+        "name": "a",
+        "old": 0.5,
+        "new": 0.4,
+        "change": -0.1,
+        "action": "decreased",
+    }
 
 
 def test_identical_files_say_so(files):

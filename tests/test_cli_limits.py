@@ -62,10 +62,21 @@ holdings: @HOLDINGS@
 """
 
 
-def _job(folder, name, *, models="{ridge: {}}", hold="ridge", extra="max_names: 5",
-         holdings="{file: current.csv, turnover_penalty: 0.0005}"):
-    text = (JOB.replace("@MODELS@", models).replace("@HOLD@", hold).replace("@EXTRA@", extra)
-            .replace("@HOLDINGS@", holdings))
+def _job(
+    folder,
+    name,
+    *,
+    models="{ridge: {}}",
+    hold="ridge",
+    extra="max_names: 5",
+    holdings="{file: current.csv, turnover_penalty: 0.0005}",
+):
+    text = (
+        JOB.replace("@MODELS@", models)
+        .replace("@HOLD@", hold)
+        .replace("@EXTRA@", extra)
+        .replace("@HOLDINGS@", holdings)
+    )
     path = folder / f"{name}.yaml"
     path.write_text(text)
     return path
@@ -98,8 +109,9 @@ def test_every_limit_holds_in_the_weights_file_and_is_reported(folder, tmp_path)
 
 
 def test_a_turnover_cap_of_zero_keeps_the_current_holdings(folder, tmp_path):
-    job = _job(folder, "frozen", extra="max_names: 12",
-               holdings="{file: current.csv, max_turnover: 0.0}")
+    job = _job(
+        folder, "frozen", extra="max_names: 12", holdings="{file: current.csv, max_turnover: 0.0}"
+    )
     result = _fit(job, tmp_path)
     assert result.exit_code == 0, result.stderr
     w = _weights(tmp_path)

@@ -11,8 +11,8 @@ from dataclasses import replace
 
 import numpy as np
 import pytest
-
 from synthetic import factor_sample
+
 from trackfit.core.constrained import check_feasible, limit_notes, solve_limited
 from trackfit.core.gram import standardized_gram
 from trackfit.core.limits import GroupLimit, Limits
@@ -87,9 +87,11 @@ CONFLICTS = [
         r"group 'south' has maximum 0\.1, but its members hold at least 0\.2 in all",
     ),
     (
-        Limits(long_only=True, budget=(0.0, 1.0),
-               groups=(GroupLimit("north", NORTH, 0.6, None),
-                       GroupLimit("south", SOUTH, 0.5, None))),
+        Limits(
+            long_only=True,
+            budget=(0.0, 1.0),
+            groups=(GroupLimit("north", NORTH, 0.6, None), GroupLimit("south", SOUTH, 0.5, None)),
+        ),
         r"the group minimums \('north' 0\.6, 'south' 0\.5\) and the minimum weights of names in "
         r"no group \(0\) sum to 1\.1, above the budget maximum 1; lower the group minimums",
     ),
@@ -113,9 +115,12 @@ CONFLICTS = [
         r"budget maximum 0\.5",
     ),
     (
-        Limits(budget=(0.9, 1.0), long_only=True, upper=_vec(1, 1, 1, 1, 1, 0.1, fill=1.0),
-               groups=(GroupLimit("north", NORTH, None, 0.3),
-                       GroupLimit("south", SOUTH, None, 0.3))),
+        Limits(
+            budget=(0.9, 1.0),
+            long_only=True,
+            upper=_vec(1, 1, 1, 1, 1, 0.1, fill=1.0),
+            groups=(GroupLimit("north", NORTH, None, 0.3), GroupLimit("south", SOUTH, None, 0.3)),
+        ),
         r"the group maximums \('north' 0\.3, 'south' 0\.3\) sum to 0\.7, below the budget "
         r"minimum 0\.9",
     ),
@@ -125,9 +130,15 @@ CONFLICTS = [
         r"long-only \('Birch' held short\); allow some turnover or change those limits",
     ),
     (
-        Limits(budget=(1.0, 1.0), current=_vec(0.5, 0.3, fill=0.0), max_turnover=0.0,
-               upper=_vec(0.4, fill=1.0), groups=(GroupLimit("north", NORTH, None, 0.6),),
-               max_names=1, min_position=0.35),
+        Limits(
+            budget=(1.0, 1.0),
+            current=_vec(0.5, 0.3, fill=0.0),
+            max_turnover=0.0,
+            upper=_vec(0.4, fill=1.0),
+            groups=(GroupLimit("north", NORTH, None, 0.6),),
+            max_names=1,
+            min_position=0.35,
+        ),
         r"break per-name bounds \('Aster' holds 0\.5\); group 'north' \(holds 0\.8\); the budget "
         r"\(holdings sum to 0\.8\); max_names 1 \(2 names held\); min_position 0\.35 \('Birch' "
         r"holds 0\.3\); allow some turnover or change those limits",
@@ -144,11 +155,15 @@ def test_conflicts_are_named(limits, match):
 @pytest.mark.parametrize(
     "limits,match",
     [
-        (Limits(upper=np.ones(3)),
-         r"The 'limits.upper' parameter of check_feasible must be an array of shape \(6,\)"),
-        (Limits(groups=(GroupLimit("north", (0, 9)),)),
-         r"'limits.groups\['north'\].members' parameter of check_feasible must hold positions "
-         r"in \[0, 6\)"),
+        (
+            Limits(upper=np.ones(3)),
+            r"The 'limits.upper' parameter of check_feasible must be an array of shape \(6,\)",
+        ),
+        (
+            Limits(groups=(GroupLimit("north", (0, 9)),)),
+            r"'limits.groups\['north'\].members' parameter of check_feasible must hold positions "
+            r"in \[0, 6\)",
+        ),
         (Limits(turnover_penalty=0.01), r"turnover limits need limits.current"),
     ],
 )
@@ -162,11 +177,17 @@ FEASIBLE = [
     Limits(long_only=True, budget=(1.0, 1.0), upper=np.full(P, 1 / 6)),  # exactly enough room
     Limits(long_only=True, budget=(1.0, 1.0), upper=np.full(P, 0.1 + 1e-13) * 10 / 6),
     # Shorts outside the groups can offset group minimums above the budget: no conflict.
-    Limits(budget=(1.0, 1.0),
-           groups=(GroupLimit("north", NORTH, 0.8), GroupLimit("south", SOUTH, 0.7))),
+    Limits(
+        budget=(1.0, 1.0), groups=(GroupLimit("north", NORTH, 0.8), GroupLimit("south", SOUTH, 0.7))
+    ),
     Limits(lower=_vec(0.1, 0.1, fill=0.0), max_names=2, budget=(0.2, 1.0)),
-    Limits(long_only=True, budget=(1.0, 1.0), current=np.full(P, 1 / 6), max_turnover=0.0,
-           upper=np.full(P, 0.2)),
+    Limits(
+        long_only=True,
+        budget=(1.0, 1.0),
+        current=np.full(P, 1 / 6),
+        max_turnover=0.0,
+        upper=np.full(P, 0.2),
+    ),
 ]
 
 

@@ -11,8 +11,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from scipy import optimize
-
 from synthetic import factor_sample
+
 from trackfit.core.constrained import RIDGE_FOR_UNIQUENESS, solve_limited
 from trackfit.core.constrained import solve as solve_module
 from trackfit.core.fit import fit_penalized
@@ -64,10 +64,7 @@ def _slsqp(X, y, alpha, l1_ratio, limits, ridge=0.0):
 
     def f(z):
         w, wp, wm, vp, vm = parts(z)
-        return (
-            0.5 * w @ Q @ w - lin @ w + const
-            + l1 * inv_d @ (wp + wm) + tau * inv_d @ (vp + vm)
-        )
+        return 0.5 * w @ Q @ w - lin @ w + const + l1 * inv_d @ (wp + wm) + tau * inv_d @ (vp + vm)
 
     def grad(z):
         w = parts(z)[0]
@@ -105,7 +102,12 @@ def _slsqp(X, y, alpha, l1_ratio, limits, ridge=0.0):
     w0 = cur.copy() if limits.current is not None else np.zeros(p)
     z0 = np.concatenate([np.maximum(w0, 0), np.maximum(-w0, 0), np.zeros(2 * p)])
     res = optimize.minimize(
-        f, z0, jac=grad, method="SLSQP", bounds=[(0, None)] * (4 * p), constraints=cons,
+        f,
+        z0,
+        jac=grad,
+        method="SLSQP",
+        bounds=[(0, None)] * (4 * p),
+        constraints=cons,
         options={"ftol": 1e-13, "maxiter": 2000},
     )
     assert res.success, res.message
@@ -122,17 +124,57 @@ def _groups(p):
 SLSQP_CASES = [
     # (seed, n, p, alpha, l1_ratio, limits-builder)
     (1, 60, 8, 0.002, 1.0, lambda p: Limits(budget=(1.0, 1.0), long_only=True)),
-    (2, 60, 10, 0.001, 0.5, lambda p: Limits(budget=(0.95, 1.0), upper=np.full(p, 0.2),
-                                            lower=np.full(p, -0.05), groups=_groups(p))),
-    (3, 80, 12, 0.0005, 1.0, lambda p: Limits(budget=(1.0, 1.0), groups=_groups(p),
-                                             upper=np.full(p, 0.3))),
-    (4, 60, 10, 0.001, 0.5, lambda p: Limits(current=np.full(p, 1.0 / p), max_turnover=0.15,
-                                            budget=(1.0, 1.0))),
-    (5, 70, 12, 0.001, 1.0, lambda p: Limits(current=np.full(p, 1.0 / p), turnover_penalty=0.002,
-                                            long_only=True, budget=(0.9, 1.0))),
-    (6, 90, 15, 0.0002, 0.0, lambda p: Limits(current=np.full(p, 1.0 / p), max_turnover=0.2,
-                                             turnover_penalty=0.001, groups=_groups(p),
-                                             upper=np.full(p, 0.25), budget=(1.0, 1.0))),
+    (
+        2,
+        60,
+        10,
+        0.001,
+        0.5,
+        lambda p: Limits(
+            budget=(0.95, 1.0), upper=np.full(p, 0.2), lower=np.full(p, -0.05), groups=_groups(p)
+        ),
+    ),
+    (
+        3,
+        80,
+        12,
+        0.0005,
+        1.0,
+        lambda p: Limits(budget=(1.0, 1.0), groups=_groups(p), upper=np.full(p, 0.3)),
+    ),
+    (
+        4,
+        60,
+        10,
+        0.001,
+        0.5,
+        lambda p: Limits(current=np.full(p, 1.0 / p), max_turnover=0.15, budget=(1.0, 1.0)),
+    ),
+    (
+        5,
+        70,
+        12,
+        0.001,
+        1.0,
+        lambda p: Limits(
+            current=np.full(p, 1.0 / p), turnover_penalty=0.002, long_only=True, budget=(0.9, 1.0)
+        ),
+    ),
+    (
+        6,
+        90,
+        15,
+        0.0002,
+        0.0,
+        lambda p: Limits(
+            current=np.full(p, 1.0 / p),
+            max_turnover=0.2,
+            turnover_penalty=0.001,
+            groups=_groups(p),
+            upper=np.full(p, 0.25),
+            budget=(1.0, 1.0),
+        ),
+    ),
 ]
 
 
@@ -275,14 +317,40 @@ def _smooth_kkt(data, scaling, sol, alpha, l1_ratio, limits):
 
 
 KKT_CASES = [
-    (31, 60, 12, 0.001, 1.0, lambda p: Limits(long_only=True, budget=(1.0, 1.0),
-                                             upper=np.full(p, 0.25))),
-    (32, 60, 12, 0.002, 0.5, lambda p: Limits(budget=(0.9, 1.0), groups=_groups(p),
-                                             lower=np.full(p, -0.1))),
-    (33, 60, 12, 0.001, 1.0, lambda p: Limits(current=np.full(p, 1 / p), max_turnover=0.1,
-                                             turnover_penalty=0.001, budget=(1.0, 1.0))),
-    (34, 40, 12, 0.0005, 0.0, lambda p: Limits(long_only=True, groups=_groups(p),
-                                              budget=(1.0, 1.0))),
+    (
+        31,
+        60,
+        12,
+        0.001,
+        1.0,
+        lambda p: Limits(long_only=True, budget=(1.0, 1.0), upper=np.full(p, 0.25)),
+    ),
+    (
+        32,
+        60,
+        12,
+        0.002,
+        0.5,
+        lambda p: Limits(budget=(0.9, 1.0), groups=_groups(p), lower=np.full(p, -0.1)),
+    ),
+    (
+        33,
+        60,
+        12,
+        0.001,
+        1.0,
+        lambda p: Limits(
+            current=np.full(p, 1 / p), max_turnover=0.1, turnover_penalty=0.001, budget=(1.0, 1.0)
+        ),
+    ),
+    (
+        34,
+        40,
+        12,
+        0.0005,
+        0.0,
+        lambda p: Limits(long_only=True, groups=_groups(p), budget=(1.0, 1.0)),
+    ),
 ]
 
 
@@ -302,12 +370,26 @@ def test_kkt_conditions_hold(seed, n, p, alpha, l1_ratio, make):
 
 LIMIT_CASES = [
     (41, lambda p: Limits(long_only=True, budget=(1.0, 1.0), upper=np.full(p, 0.12))),
-    (42, lambda p: Limits(budget=(0.95, 1.0), lower=np.full(p, -0.03), upper=np.full(p, 0.2),
-                          groups=_groups(p))),
-    (43, lambda p: Limits(long_only=True, current=np.full(p, 1 / p), max_turnover=0.08,
-                          budget=(1.0, 1.0))),
-    (44, lambda p: Limits(long_only=True, groups=(GroupLimit("north", tuple(range(5)), 0.4, 0.4),),
-                          budget=(1.0, 1.0))),
+    (
+        42,
+        lambda p: Limits(
+            budget=(0.95, 1.0), lower=np.full(p, -0.03), upper=np.full(p, 0.2), groups=_groups(p)
+        ),
+    ),
+    (
+        43,
+        lambda p: Limits(
+            long_only=True, current=np.full(p, 1 / p), max_turnover=0.08, budget=(1.0, 1.0)
+        ),
+    ),
+    (
+        44,
+        lambda p: Limits(
+            long_only=True,
+            groups=(GroupLimit("north", tuple(range(5)), 0.4, 0.4),),
+            budget=(1.0, 1.0),
+        ),
+    ),
 ]
 
 
@@ -404,8 +486,14 @@ def test_turnover_counts_holdings_that_cannot_be_held():
     value = np.abs(sol.weights - current).sum() / 2 + 0.01
     assert value <= 0.2 + 1e-12 and sol.statuses[-1].value == pytest.approx(value, abs=1e-15)
     with pytest.raises(SolverError, match="below the turnover forced by selling"):
-        solve_limited(data, scaling, 0.001, 1.0, Limits(current=current, max_turnover=0.1,
-                                                         outside_turnover=0.01), support=support)
+        solve_limited(
+            data,
+            scaling,
+            0.001,
+            1.0,
+            Limits(current=current, max_turnover=0.1, outside_turnover=0.01),
+            support=support,
+        )
 
 
 def test_support_restricts_the_names_held():
@@ -418,8 +506,13 @@ def test_support_restricts_the_names_held():
     # The same problem on the four columns' rows alone (source: scipy nnls is not needed here:
     # the restricted problem is the full problem of a smaller data set).
     sub_scaling = fit_scaling(X[:, support], y)
-    sub = solve_limited(standardized_gram(X[:, support], y, sub_scaling), sub_scaling, 0.0005, 1.0,
-                        Limits(long_only=True, budget=(1.0, 1.0)))
+    sub = solve_limited(
+        standardized_gram(X[:, support], y, sub_scaling),
+        sub_scaling,
+        0.0005,
+        1.0,
+        Limits(long_only=True, budget=(1.0, 1.0)),
+    )
     assert np.max(np.abs(sol.weights[support] - sub.weights)) < 1e-12
     assert sol.objective == pytest.approx(sub.objective, abs=1e-12)
 
@@ -448,8 +541,13 @@ def test_more_names_than_rows_adds_a_ridge_and_is_unique():
     # Unique: the same fit with the columns in reverse order gives the same weights reversed.
     rev = X[:, ::-1]
     rev_scaling = fit_scaling(rev, y)
-    again = solve_limited(standardized_gram(rev, y, rev_scaling), rev_scaling, 1e-4, 1.0,
-                          Limits(long_only=True, budget=(1.0, 1.0), upper=np.full(30, 0.3)))
+    again = solve_limited(
+        standardized_gram(rev, y, rev_scaling),
+        rev_scaling,
+        1e-4,
+        1.0,
+        Limits(long_only=True, budget=(1.0, 1.0), upper=np.full(30, 0.3)),
+    )
     assert np.max(np.abs(again.weights[::-1] - sol.weights)) < 1e-9
     # Stable: a rounding-size change in the benchmark moves the weights by a rounding-size amount.
     y2 = y * (1 + 1e-12)
@@ -462,8 +560,14 @@ def test_more_names_than_rows_adds_a_ridge_and_is_unique():
 
 def test_same_input_gives_identical_bytes():
     X, y, scaling, data = _setup(71, 60, 15)
-    limits = Limits(budget=(1.0, 1.0), groups=_groups(15), current=np.full(15, 1 / 15),
-                    max_turnover=0.1, turnover_penalty=0.001, upper=np.full(15, 0.2))
+    limits = Limits(
+        budget=(1.0, 1.0),
+        groups=_groups(15),
+        current=np.full(15, 1 / 15),
+        max_turnover=0.1,
+        turnover_penalty=0.001,
+        upper=np.full(15, 0.2),
+    )
     a = solve_limited(data, scaling, 0.001, 0.5, limits)
     b = solve_limited(data, scaling, 0.001, 0.5, limits)
     assert a.weights.tobytes() == b.weights.tobytes()
@@ -500,14 +604,22 @@ def test_polish_failure_falls_back_or_raises(monkeypatch):
 @pytest.mark.parametrize(
     "kwargs,match",
     [
-        ({"alpha": -1.0},
-         r"The 'alpha' parameter of solve_limited must be a finite number >= 0\. Got -1\.0\."),
-        ({"l1_ratio": 1.5},
-         r"The 'l1_ratio' parameter of solve_limited must be in \[0, 1\]\. Got 1\.5\."),
-        ({"support": np.ones(3, dtype=bool)},
-         r"The 'support' parameter of solve_limited must be a bool array of shape \(6,\)"),
-        ({"limits": Limits(upper=np.ones(5))},
-         r"The 'limits.upper' parameter of solve_limited must be an array of shape \(6,\)"),
+        (
+            {"alpha": -1.0},
+            r"The 'alpha' parameter of solve_limited must be a finite number >= 0\. Got -1\.0\.",
+        ),
+        (
+            {"l1_ratio": 1.5},
+            r"The 'l1_ratio' parameter of solve_limited must be in \[0, 1\]\. Got 1\.5\.",
+        ),
+        (
+            {"support": np.ones(3, dtype=bool)},
+            r"The 'support' parameter of solve_limited must be a bool array of shape \(6,\)",
+        ),
+        (
+            {"limits": Limits(upper=np.ones(5))},
+            r"The 'limits.upper' parameter of solve_limited must be an array of shape \(6,\)",
+        ),
         ({"limits": Limits(max_turnover=0.1)}, r"turnover limits need limits.current"),
     ],
 )
@@ -529,27 +641,48 @@ def _support(*held):
 @pytest.mark.parametrize(
     "limits,support,match",
     [
-        (Limits(lower=np.full(6, 0.2), upper=np.full(6, 0.1)), None,
-         r"constituent 0: its minimum weight 0\.2 is above its maximum 0\.1; change one of the "
-         r"two"),
-        (Limits(lower=np.array([0.1, 0, 0, 0, 0, 0.0])), _support(1, 2),
-         r"constituent 0 is outside the names allowed to be held, so it gets weight 0, but its "
-         r"bounds \[0\.1, inf\] exclude 0"),
-        (Limits(current=np.full(6, 0.2), max_turnover=0.05), _support(0, 1, 2),
-         r"max_turnover 0\.05 is below the turnover forced by selling holdings that cannot be "
-         r"held \(0\.3: "),
-        (Limits(current=np.full(6, 0.2), max_turnover=0.0, upper=np.full(6, 0.1)), None,
-         r"max_turnover leaves no room to trade, but the current weight of constituent 0 "
-         r"\(0\.2\) is outside its bounds \[-inf, 0\.1\]"),
-        (Limits(current=np.full(6, 0.2), max_turnover=0.0, budget=(1.0, 1.0)), None,
-         r"no weights satisfy these limits together: max_turnover leaves no room to trade, and "
-         r"the weights so fixed break budget_max; loosen one of them"),  # holdings sum to 1.2
-        (Limits(budget=(0.5, 1.0)), _support(),
-         r"every weight is fixed by equal bounds or by the support, and the weights so fixed "
-         r"break budget_min"),
-        (Limits(long_only=True, budget=(1.0, 1.0), upper=np.full(6, 0.1)), None,
-         r"no weights satisfy these limits together: budget of 1; .*maximum weight 0\.1 of "
-         r"constituent 0"),
+        (
+            Limits(lower=np.full(6, 0.2), upper=np.full(6, 0.1)),
+            None,
+            r"constituent 0: its minimum weight 0\.2 is above its maximum 0\.1; change one of the "
+            r"two",
+        ),
+        (
+            Limits(lower=np.array([0.1, 0, 0, 0, 0, 0.0])),
+            _support(1, 2),
+            r"constituent 0 is outside the names allowed to be held, so it gets weight 0, but its "
+            r"bounds \[0\.1, inf\] exclude 0",
+        ),
+        (
+            Limits(current=np.full(6, 0.2), max_turnover=0.05),
+            _support(0, 1, 2),
+            r"max_turnover 0\.05 is below the turnover forced by selling holdings that cannot be "
+            r"held \(0\.3: ",
+        ),
+        (
+            Limits(current=np.full(6, 0.2), max_turnover=0.0, upper=np.full(6, 0.1)),
+            None,
+            r"max_turnover leaves no room to trade, but the current weight of constituent 0 "
+            r"\(0\.2\) is outside its bounds \[-inf, 0\.1\]",
+        ),
+        (
+            Limits(current=np.full(6, 0.2), max_turnover=0.0, budget=(1.0, 1.0)),
+            None,
+            r"no weights satisfy these limits together: max_turnover leaves no room to trade, and "
+            r"the weights so fixed break budget_max; loosen one of them",
+        ),  # holdings sum to 1.2
+        (
+            Limits(budget=(0.5, 1.0)),
+            _support(),
+            r"every weight is fixed by equal bounds or by the support, and the weights so fixed "
+            r"break budget_min",
+        ),
+        (
+            Limits(long_only=True, budget=(1.0, 1.0), upper=np.full(6, 0.1)),
+            None,
+            r"no weights satisfy these limits together: budget of 1; .*maximum weight 0\.1 of "
+            r"constituent 0",
+        ),
     ],
 )
 def test_infeasible_problems_say_which_limits(limits, support, match):

@@ -49,8 +49,13 @@ def test_every_limit_in_the_documented_order():
 
 @pytest.mark.parametrize(
     "gap,binding,slack",
-    [(0.0, True, 0.0), (0.5 * BINDING, True, 0.0), (-0.5 * BINDING, True, 0.0),
-     (2 * BINDING, False, 2 * BINDING), (-2 * BINDING, False, -2 * BINDING)],
+    [
+        (0.0, True, 0.0),
+        (0.5 * BINDING, True, 0.0),
+        (-0.5 * BINDING, True, 0.0),
+        (2 * BINDING, False, 2 * BINDING),
+        (-2 * BINDING, False, -2 * BINDING),
+    ],
 )
 def test_binding_within_tolerance_reads_zero_slack(gap, binding, slack):
     limits = Limits(budget=(None, 1.0))

@@ -19,7 +19,6 @@ from trackfit.core.gram import standardized_gram
 from trackfit.core.grid import penalty_grid
 from trackfit.core.models import ModelSpec
 from trackfit.core.scaling import fit_scaling
-from trackfit.errors import SolverError
 
 pytestmark = pytest.mark.filterwarnings("error", category=ConvergenceWarning)
 
@@ -53,7 +52,10 @@ def test_lasso_choice_equals_lassocv_on_prescaled_data(seed):
     Xs, ys, y_scale = _prescaled(s.X, s.y)
     # scikit-learn LassoCV(alphas=our grid, cv=TimeSeriesSplit(5), fit_intercept=False).
     ref = LassoCV(
-        alphas=curve.alphas, cv=TimeSeriesSplit(5), fit_intercept=False, tol=1e-10,
+        alphas=curve.alphas,
+        cv=TimeSeriesSplit(5),
+        fit_intercept=False,
+        tol=1e-10,
         max_iter=100_000,
     ).fit(Xs, ys)
     np.testing.assert_array_equal(ref.alphas_, curve.alphas)
@@ -73,8 +75,13 @@ def test_elastic_net_choice_equals_elasticnetcv_on_prescaled_data(seed):
     # scikit-learn ElasticNetCV builds one grid per l1_ratio: max|X'y| / (n l1_ratio) down to
     # eps times that, log-spaced (sklearn/linear_model/_coordinate_descent.py, _alpha_grid).
     ref = ElasticNetCV(
-        l1_ratio=list(L1_RATIOS), alphas=20, eps=1e-3, cv=TimeSeriesSplit(5),
-        fit_intercept=False, tol=1e-10, max_iter=100_000,
+        l1_ratio=list(L1_RATIOS),
+        alphas=20,
+        eps=1e-3,
+        cv=TimeSeriesSplit(5),
+        fit_intercept=False,
+        tol=1e-10,
+        max_iter=100_000,
     ).fit(Xs, ys)
     for i, curve in enumerate(res.curves):
         assert curve.l1_ratio == L1_RATIOS[i]
@@ -98,16 +105,24 @@ def test_lasso_grid_equals_lassocv_grid():
 def _grid_search(X, y, alphas):
     # scikit-learn: scaling refitted inside every fold by the Pipeline, y scaled the same way by
     # TransformedTargetRegressor, errors scored in original units.
-    pipe = Pipeline([
-        ("scale", StandardScaler(with_mean=False)),
-        ("model", TransformedTargetRegressor(
-            regressor=Lasso(fit_intercept=False, tol=1e-12, max_iter=100_000),
-            transformer=StandardScaler(with_mean=False),
-        )),
-    ])
+    pipe = Pipeline(
+        [
+            ("scale", StandardScaler(with_mean=False)),
+            (
+                "model",
+                TransformedTargetRegressor(
+                    regressor=Lasso(fit_intercept=False, tol=1e-12, max_iter=100_000),
+                    transformer=StandardScaler(with_mean=False),
+                ),
+            ),
+        ]
+    )
     search = GridSearchCV(
-        pipe, {"model__regressor__alpha": list(alphas)}, scoring="neg_mean_squared_error",
-        cv=TimeSeriesSplit(5), refit=False,
+        pipe,
+        {"model__regressor__alpha": list(alphas)},
+        scoring="neg_mean_squared_error",
+        cv=TimeSeriesSplit(5),
+        refit=False,
     )
     return search.fit(X, y)
 
@@ -271,8 +286,12 @@ def test_choice_equals_lassocv_when_folds_have_fewer_rows_than_names(seed, posit
     # scikit-learn LassoCV(alphas=our grid, cv=TimeSeriesSplit(5), positive=...) at a tight
     # tolerance, on the same scaled rows.
     ref = LassoCV(
-        alphas=curve.alphas, cv=TimeSeriesSplit(5), fit_intercept=False, positive=positive,
-        tol=1e-12, max_iter=1_000_000,
+        alphas=curve.alphas,
+        cv=TimeSeriesSplit(5),
+        fit_intercept=False,
+        positive=positive,
+        tol=1e-12,
+        max_iter=1_000_000,
     ).fit(Xs, ys)
     np.testing.assert_array_equal(ref.alphas_, curve.alphas)
     assert res.alpha == ref.alpha_

@@ -18,7 +18,6 @@ from trackfit.core.gram import standardized_gram
 from trackfit.core.grid import penalty_grid
 from trackfit.core.scaling import fit_scaling
 from trackfit.core.solvers import ExactPathSolver, default_solver
-from trackfit.errors import SolverError
 
 # A ConvergenceWarning would mean the reference itself is not accurate: make it an error.
 pytestmark = pytest.mark.filterwarnings("error", category=ConvergenceWarning)
@@ -53,11 +52,18 @@ def _reference(Xs, ys, alpha, l1_ratio, positive):
         # sklearn Ridge minimizes |y - Xw|^2 + a|w|^2, so a = n * alpha matches 1/(2n) scaling.
         return Ridge(alpha=n * alpha, fit_intercept=False).fit(Xs, ys).coef_
     if l1_ratio == 1.0:
-        model = Lasso(alpha=alpha, positive=positive, fit_intercept=False, tol=1e-14,
-                      max_iter=1_000_000)
+        model = Lasso(
+            alpha=alpha, positive=positive, fit_intercept=False, tol=1e-14, max_iter=1_000_000
+        )
     else:
-        model = ElasticNet(alpha=alpha, l1_ratio=l1_ratio, positive=positive,
-                           fit_intercept=False, tol=1e-14, max_iter=1_000_000)
+        model = ElasticNet(
+            alpha=alpha,
+            l1_ratio=l1_ratio,
+            positive=positive,
+            fit_intercept=False,
+            tol=1e-14,
+            max_iter=1_000_000,
+        )
     return model.fit(Xs, ys).coef_
 
 

@@ -112,9 +112,7 @@ def test_read_errors(tmp_path, text, match):
 
 def test_date_format_mismatch(tmp_path):
     path = _write(tmp_path, "date,a\n2020-01-02,1\n")
-    with pytest.raises(
-        DataError, match=re.escape("expected dates in data.date_format '%d/%m/%Y'")
-    ):
+    with pytest.raises(DataError, match=re.escape("expected dates in data.date_format '%d/%m/%Y'")):
         _read(path, date_format="%d/%m/%Y")
     with pytest.raises(DataError, match=re.escape("data.date_format '%Q' is not a usable")):
         _read(path, date_format="%Q")
@@ -129,9 +127,12 @@ def test_date_format_with_time_zone_keeps_the_local_date(tmp_path):
 
 
 NUMBER_ERRORS = [
-    ("word", "date,a\n2020-01-01,1\n2020-01-02,abc\n", "column 'a', line 3 (date 2020-01-02): "
-     "'abc' is not a number;"),
-    ("comma decimal", "date,a\n2020-01-01,\"1,5\"\n", "'1,5' is not a number"),
+    (
+        "word",
+        "date,a\n2020-01-01,1\n2020-01-02,abc\n",
+        "column 'a', line 3 (date 2020-01-02): 'abc' is not a number;",
+    ),
+    ("comma decimal", 'date,a\n2020-01-01,"1,5"\n', "'1,5' is not a number"),
     ("count", "date,a\n2020-01-01,x\n2020-01-02,y\n", "(2 such cells in the column)"),
 ]
 

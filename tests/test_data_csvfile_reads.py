@@ -44,7 +44,9 @@ def _assert_same(quick, careful):
     np.testing.assert_array_equal(quick.lines, careful.lines)
     for column in careful.columns:
         got, want = _outcome(quick, column), _outcome(careful, column)
-        if isinstance(want, list):  # NaN bits may differ; where the careful read has NaN, so must we
+        if isinstance(
+            want, list
+        ):  # NaN bits may differ; where the careful read has NaN, so must we
             want_nan = np.isnan(careful.numbers(column))
             np.testing.assert_array_equal(np.isnan(quick.numbers(column)), want_nan)
             got = [g for g, nan in zip(got, want_nan) if not nan]
@@ -73,13 +75,42 @@ def test_plain_file_is_served_quickly_with_correctly_rounded_values(tmp_path):
 # Every cell text a file might hold next to plain numbers; "kind" says whether the quick read
 # may serve such a file (True), must decline it (False) or either (None).
 CELLS = [
-    ("1.5", True), (" 2.5 ", True), ("+3", True), ("007", True), ("1e5", True), ("1.", True),
-    (".5", True), ("", True), ("NA", True), ("N/A", True), ("#N/A", True), ("NaN", True),
-    ("nan", True), ("0", None), ("0.0", None), ("-0.0", False), ("-0", None), ("-00", None),
-    ("inf", False), ("-Infinity", False), ("1e400", False), ("9007199254740993", False),
-    ("18446744073709551615", False), ("NAN", False), ("-nan", False), (" NA ", False),
-    ("null", False), ("True", False), ("1,5", False), ('"1,5"', False), ("0x10", False),
-    ("1_000", False), ("abc", False), ("\u00a01.5", False), ("1d5", False), ("-", False),
+    ("1.5", True),
+    (" 2.5 ", True),
+    ("+3", True),
+    ("007", True),
+    ("1e5", True),
+    ("1.", True),
+    (".5", True),
+    ("", True),
+    ("NA", True),
+    ("N/A", True),
+    ("#N/A", True),
+    ("NaN", True),
+    ("nan", True),
+    ("0", None),
+    ("0.0", None),
+    ("-0.0", False),
+    ("-0", None),
+    ("-00", None),
+    ("inf", False),
+    ("-Infinity", False),
+    ("1e400", False),
+    ("9007199254740993", False),
+    ("18446744073709551615", False),
+    ("NAN", False),
+    ("-nan", False),
+    (" NA ", False),
+    ("null", False),
+    ("True", False),
+    ("1,5", False),
+    ('"1,5"', False),
+    ("0x10", False),
+    ("1_000", False),
+    ("abc", False),
+    ("\u00a01.5", False),
+    ("1d5", False),
+    ("-", False),
 ]
 
 

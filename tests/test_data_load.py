@@ -156,8 +156,9 @@ def test_percent_returns(tmp_path):
 
 
 def test_decimal_returns_are_taken_as_written(tmp_path):
-    _put(tmp_path, "index.csv", "date,idx", "2020-01-03,0.01", "2020-01-10,-0.02",
-         "2020-01-17,0.03")
+    _put(
+        tmp_path, "index.csv", "date,idx", "2020-01-03,0.01", "2020-01-10,-0.02", "2020-01-17,0.03"
+    )
     _put(tmp_path, "stocks.csv", "date,a", "2020-01-03,0.1", "2020-01-10,0.2", "2020-01-17,-0.3")
     result = load_tracking_data(make_job(tmp_path, values="returns"))
     np.testing.assert_array_equal(result.benchmark, [0.01, -0.02, 0.03])
@@ -287,7 +288,9 @@ def test_window_start_and_lookback(files):
     started = load_tracking_data(make_job(files, window=WindowSpec(start=date(2020, 2, 1))))
     assert started.dates[0] == _d("2020-02-07")
     assert _step_counts(started)[4] == (
-        "dates before the fit window (window.start 2020-02-01)", 11, 7
+        "dates before the fit window (window.start 2020-02-01)",
+        11,
+        7,
     )
     lookback = load_tracking_data(
         make_job(files, window=WindowSpec(lookback=5)), as_of=date(2020, 3, 6)
@@ -390,8 +393,12 @@ def test_constituent_flat_in_excess_of_the_risk_free_rate_is_dropped(tmp_path):
     days, rate = WEEKS[:4], [0.001, 0.002, 0.002, 0.003]
     index, stock = [0.01, -0.02, 0.03, 0.0], [0.1, 0.2, -0.1, 0.05]
     _put(tmp_path, "index.csv", "date,idx", *(f"{d},{v}" for d, v in zip(days, index)))
-    _put(tmp_path, "stocks.csv", "date,a,deposit",
-         *(f"{d},{a},{r}" for d, a, r in zip(days, stock, rate)))
+    _put(
+        tmp_path,
+        "stocks.csv",
+        "date,a,deposit",
+        *(f"{d},{a},{r}" for d, a, r in zip(days, stock, rate)),
+    )
     _put(tmp_path, "rate.csv", "date,rate", *(f"{d},{r}" for d, r in zip(days, rate)))
     job = make_job(tmp_path, values="returns", risk_free=RiskFreeSpec(Path("rate.csv"), "rate"))
     result = load_tracking_data(job)
@@ -449,92 +456,255 @@ def _fortnightly(folder):
 
 LOAD_ERRORS = [
     # (id, change to the files, job options, as_of, message)
-    ("no file", _nothing, {"benchmark": ("nope.csv", None)}, None,
-     "nope.csv: the data file does not exist ("),
-    ("no date column", _nothing, {"date_column": "day"}, None,
-     "index.csv: no date column 'day'; columns found: 'date', 'idx'; set data.date_column"),
-    ("benchmark column", _nothing, {"benchmark": ("index.csv", "ixd")}, None,
-     "index.csv: no column 'ixd' (named by benchmark.column); close matches: 'idx'; fix the name"),
-    ("constituent column", _nothing, {"constituents": (("stocks.csv", ("a", "kestrel")),)}, None,
-     "stocks.csv: no column 'kestrel' (named by constituents[0].columns); "
-     "columns found: 'a', 'b', 'c'"),
-    ("risk-free column", _nothing,
-     {"risk_free": RiskFreeSpec(Path("rate.csv"), "rates")}, None,
-     "rate.csv: no column 'rates' (named by risk_free.column); close matches: 'rate'"),
-    ("several benchmark columns", _nothing, {"benchmark": ("stocks.csv", None)}, None,
-     "stocks.csv: benchmark.column is not set, so the file must hold exactly one series besides "
-     "the date column, but it has 3 ('a', 'b', 'c'); set benchmark.column to one of them"),
-    ("no constituent columns", _nothing, {"constituents": (("index.csv", None),)}, None,
-     "index.csv: constituents[0] takes every column but the date column, and the file has no "
-     "other series column"),
-    ("bad date", _replace_line("stocks.csv", 3, "2020/01/17,1,2,3"), {}, None,
-     "stocks.csv: line 4: cannot read date '2020/01/17' in column 'date'; expected ISO 8601"),
-    ("date format", _nothing, {"date_format": "%d.%m.%Y"}, None,
-     "index.csv: line 2: cannot read date '2020-01-03' in column 'date' (12 unreadable dates in "
-     "all); expected dates in data.date_format '%d.%m.%Y'"),
-    ("not a number", _replace_line("stocks.csv", 5, f"{WEEKS[4]},1,n/a,3"), {}, None,
-     "stocks.csv: column 'b', line 6 (date 2020-01-31): 'n/a' is not a number"),
-    ("repeated date", _replace_line("index.csv", 2, f"{WEEKS[0]},5"), {}, None,
-     "index.csv: 1 date(s) appear more than once: 2020-01-03; keep one row per date"),
+    (
+        "no file",
+        _nothing,
+        {"benchmark": ("nope.csv", None)},
+        None,
+        "nope.csv: the data file does not exist (",
+    ),
+    (
+        "no date column",
+        _nothing,
+        {"date_column": "day"},
+        None,
+        "index.csv: no date column 'day'; columns found: 'date', 'idx'; set data.date_column",
+    ),
+    (
+        "benchmark column",
+        _nothing,
+        {"benchmark": ("index.csv", "ixd")},
+        None,
+        "index.csv: no column 'ixd' (named by benchmark.column); close matches: 'idx'; fix the name",
+    ),
+    (
+        "constituent column",
+        _nothing,
+        {"constituents": (("stocks.csv", ("a", "kestrel")),)},
+        None,
+        "stocks.csv: no column 'kestrel' (named by constituents[0].columns); "
+        "columns found: 'a', 'b', 'c'",
+    ),
+    (
+        "risk-free column",
+        _nothing,
+        {"risk_free": RiskFreeSpec(Path("rate.csv"), "rates")},
+        None,
+        "rate.csv: no column 'rates' (named by risk_free.column); close matches: 'rate'",
+    ),
+    (
+        "several benchmark columns",
+        _nothing,
+        {"benchmark": ("stocks.csv", None)},
+        None,
+        "stocks.csv: benchmark.column is not set, so the file must hold exactly one series besides "
+        "the date column, but it has 3 ('a', 'b', 'c'); set benchmark.column to one of them",
+    ),
+    (
+        "no constituent columns",
+        _nothing,
+        {"constituents": (("index.csv", None),)},
+        None,
+        "index.csv: constituents[0] takes every column but the date column, and the file has no "
+        "other series column",
+    ),
+    (
+        "bad date",
+        _replace_line("stocks.csv", 3, "2020/01/17,1,2,3"),
+        {},
+        None,
+        "stocks.csv: line 4: cannot read date '2020/01/17' in column 'date'; expected ISO 8601",
+    ),
+    (
+        "date format",
+        _nothing,
+        {"date_format": "%d.%m.%Y"},
+        None,
+        "index.csv: line 2: cannot read date '2020-01-03' in column 'date' (12 unreadable dates in "
+        "all); expected dates in data.date_format '%d.%m.%Y'",
+    ),
+    (
+        "not a number",
+        _replace_line("stocks.csv", 5, f"{WEEKS[4]},1,n/a,3"),
+        {},
+        None,
+        "stocks.csv: column 'b', line 6 (date 2020-01-31): 'n/a' is not a number",
+    ),
+    (
+        "repeated date",
+        _replace_line("index.csv", 2, f"{WEEKS[0]},5"),
+        {},
+        None,
+        "index.csv: 1 date(s) appear more than once: 2020-01-03; keep one row per date",
+    ),
     ("empty file", _write("stocks.csv", ""), {}, None, "stocks.csv: the file is empty"),
-    ("header only", _write("stocks.csv", "date,a\n"), {}, None,
-     "stocks.csv: the file has a header but no data rows"),
-    ("twice", _nothing, {"constituents": (("stocks.csv", ("a", "b")), ("other.csv", None))}, None,
-     "constituent 'b' appears in both stocks.csv and other.csv; every constituent needs a unique"),
-    ("twice in one file", _nothing,
-     {"constituents": (("stocks.csv", ("a", "b")), ("stocks.csv", ("b",)))}, None,
-     "constituent 'b' appears twice among the columns taken from stocks.csv"),
-    ("benchmark name", _nothing, {"constituents": (("stocks.csv", None), ("index2.csv", None))},
-     None, "index2.csv: constituent 'idx' has the same name as the benchmark column in index.csv"),
-    ("cash", _write("cash.csv", f"date,(cash)\n{WEEKS[0]},1\n"),
-     {"constituents": (("cash.csv", None),)}, None,
-     "cash.csv: constituent column '(cash)' uses a name trackfit reserves"),
-    ("no common date", _write("other.csv", "date,z\n2021-01-01,1\n2021-01-08,2\n"),
-     {"constituents": (("other.csv", None),)}, None,
-     "no date appears in every data file (index.csv: 2020-01-03 to 2020-03-20; other.csv: "
-     "2021-01-01 to 2021-01-08)"),
-    ("one common date", _write("other.csv", f"date,z\n{WEEKS[0]},1\n"),
-     {"constituents": (("other.csv", None),)}, None, "no return dates"),
-    ("zero price", _replace_line("stocks.csv", 4, f"{WEEKS[3]},1,0,3"), {}, None,
-     "'b' (stocks.csv): the price on 2020-01-24 is 0; a price must be above zero"),
-    ("negative prices", _constant("stocks.csv", "b", "-3"), {}, None,
-     "'b' (stocks.csv): the price on 2020-01-03 is -3 (12 prices <= 0 in the window)"),
-    ("infinite", _replace_line("index.csv", 2, f"{WEEKS[1]},inf"), {}, None,
-     "'idx' (index.csv): the value on 2020-01-10 is inf, not a finite number"),
-    ("infinite rate", _replace_line("rate.csv", 2, f"{WEEKS[1]},-inf"),
-     {"risk_free": RiskFreeSpec(Path("rate.csv"), "rate")}, None,
-     "'rate' (rate.csv): the value on 2020-01-10 is -inf, not a finite number"),
-    ("missing", _replace_line("stocks.csv", 2, f"{WEEKS[1]},1,,3"), {}, None,
-     "missing values on dates the fit window uses (2020-01-03 to 2020-03-20): 'b' (stocks.csv): "
-     "1 date (2020-01-10); fill the gaps in the files, or set data.missing: drop_dates"),
-    ("as-of too early", _nothing, {}, date(2020, 1, 9),
-     "--as-of 2020-01-09 is before the first return date 2020-01-10; pass a later --as-of"),
-    ("stale", _nothing, {}, date(2020, 4, 4),
-     "data end on 2020-03-20, well before --as-of 2020-04-04; update the data or pass an "
-     "earlier --as-of"),
-    ("gap", _edit("index.csv", lambda t: "".join(t.splitlines(True)[:6] + t.splitlines(True)[9:])),
-     {}, date(2020, 2, 21),
-     "the data have a gap from 2020-01-31 to 2020-02-28, and --as-of 2020-02-21 falls well "
-     "inside it"),
-    ("start too late", _nothing, {"window": WindowSpec(start=date(2020, 3, 1))}, date(2020, 2, 28),
-     "window.start 2020-03-01 is after the last return date of the window (2020-02-28)"),
-    ("lookback too long", _nothing, {"window": WindowSpec(lookback=12)}, None,
-     "window.lookback asks for 12 return dates ending on 2020-03-20, but only 11 are available "
-     "(2020-01-10 to 2020-03-20); lower window.lookback"),
-    ("too few to infer", _nothing, {"window": WindowSpec(lookback=2)}, None,
-     "cannot infer periods per year from 2 return date(s) in the fit window; it takes at least 3"),
-    ("too few", _nothing, {"window": WindowSpec(lookback=2), "periods_per_year": 52}, None,
-     "only 2 return date(s) are left in the fit window; fitting needs at least 3"),
-    ("spacing", _fortnightly, {}, None,
-     "median spacing of the fit window's dates (2020-01-17 to 2020-06-05) is 14 calendar days"),
-    ("flat benchmark", _constant("index.csv", "idx", "100"), {}, None,
-     "benchmark 'idx' (index.csv) has the same return on every date of the fit window "
-     "(2020-01-10 to 2020-03-20); there is nothing to track"),
-    ("all flat", _constant("stocks.csv", "a", "5"), {"constituents": (("stocks.csv", ("a",)),)},
-     None, "every constituent has the same return on every date of the fit window"),
-    ("rate at -100 %", _constant("rate.csv", "rate", "-100"),
-     {"risk_free": RiskFreeSpec(Path("rate.csv"), "rate", "percent", "annual")}, None,
-     "an annual risk-free rate of -100 % is at or below -100 %"),
+    (
+        "header only",
+        _write("stocks.csv", "date,a\n"),
+        {},
+        None,
+        "stocks.csv: the file has a header but no data rows",
+    ),
+    (
+        "twice",
+        _nothing,
+        {"constituents": (("stocks.csv", ("a", "b")), ("other.csv", None))},
+        None,
+        "constituent 'b' appears in both stocks.csv and other.csv; every constituent needs a unique",
+    ),
+    (
+        "twice in one file",
+        _nothing,
+        {"constituents": (("stocks.csv", ("a", "b")), ("stocks.csv", ("b",)))},
+        None,
+        "constituent 'b' appears twice among the columns taken from stocks.csv",
+    ),
+    (
+        "benchmark name",
+        _nothing,
+        {"constituents": (("stocks.csv", None), ("index2.csv", None))},
+        None,
+        "index2.csv: constituent 'idx' has the same name as the benchmark column in index.csv",
+    ),
+    (
+        "cash",
+        _write("cash.csv", f"date,(cash)\n{WEEKS[0]},1\n"),
+        {"constituents": (("cash.csv", None),)},
+        None,
+        "cash.csv: constituent column '(cash)' uses a name trackfit reserves",
+    ),
+    (
+        "no common date",
+        _write("other.csv", "date,z\n2021-01-01,1\n2021-01-08,2\n"),
+        {"constituents": (("other.csv", None),)},
+        None,
+        "no date appears in every data file (index.csv: 2020-01-03 to 2020-03-20; other.csv: "
+        "2021-01-01 to 2021-01-08)",
+    ),
+    (
+        "one common date",
+        _write("other.csv", f"date,z\n{WEEKS[0]},1\n"),
+        {"constituents": (("other.csv", None),)},
+        None,
+        "no return dates",
+    ),
+    (
+        "zero price",
+        _replace_line("stocks.csv", 4, f"{WEEKS[3]},1,0,3"),
+        {},
+        None,
+        "'b' (stocks.csv): the price on 2020-01-24 is 0; a price must be above zero",
+    ),
+    (
+        "negative prices",
+        _constant("stocks.csv", "b", "-3"),
+        {},
+        None,
+        "'b' (stocks.csv): the price on 2020-01-03 is -3 (12 prices <= 0 in the window)",
+    ),
+    (
+        "infinite",
+        _replace_line("index.csv", 2, f"{WEEKS[1]},inf"),
+        {},
+        None,
+        "'idx' (index.csv): the value on 2020-01-10 is inf, not a finite number",
+    ),
+    (
+        "infinite rate",
+        _replace_line("rate.csv", 2, f"{WEEKS[1]},-inf"),
+        {"risk_free": RiskFreeSpec(Path("rate.csv"), "rate")},
+        None,
+        "'rate' (rate.csv): the value on 2020-01-10 is -inf, not a finite number",
+    ),
+    (
+        "missing",
+        _replace_line("stocks.csv", 2, f"{WEEKS[1]},1,,3"),
+        {},
+        None,
+        "missing values on dates the fit window uses (2020-01-03 to 2020-03-20): 'b' (stocks.csv): "
+        "1 date (2020-01-10); fill the gaps in the files, or set data.missing: drop_dates",
+    ),
+    (
+        "as-of too early",
+        _nothing,
+        {},
+        date(2020, 1, 9),
+        "--as-of 2020-01-09 is before the first return date 2020-01-10; pass a later --as-of",
+    ),
+    (
+        "stale",
+        _nothing,
+        {},
+        date(2020, 4, 4),
+        "data end on 2020-03-20, well before --as-of 2020-04-04; update the data or pass an "
+        "earlier --as-of",
+    ),
+    (
+        "gap",
+        _edit("index.csv", lambda t: "".join(t.splitlines(True)[:6] + t.splitlines(True)[9:])),
+        {},
+        date(2020, 2, 21),
+        "the data have a gap from 2020-01-31 to 2020-02-28, and --as-of 2020-02-21 falls well "
+        "inside it",
+    ),
+    (
+        "start too late",
+        _nothing,
+        {"window": WindowSpec(start=date(2020, 3, 1))},
+        date(2020, 2, 28),
+        "window.start 2020-03-01 is after the last return date of the window (2020-02-28)",
+    ),
+    (
+        "lookback too long",
+        _nothing,
+        {"window": WindowSpec(lookback=12)},
+        None,
+        "window.lookback asks for 12 return dates ending on 2020-03-20, but only 11 are available "
+        "(2020-01-10 to 2020-03-20); lower window.lookback",
+    ),
+    (
+        "too few to infer",
+        _nothing,
+        {"window": WindowSpec(lookback=2)},
+        None,
+        "cannot infer periods per year from 2 return date(s) in the fit window; it takes at least 3",
+    ),
+    (
+        "too few",
+        _nothing,
+        {"window": WindowSpec(lookback=2), "periods_per_year": 52},
+        None,
+        "only 2 return date(s) are left in the fit window; fitting needs at least 3",
+    ),
+    (
+        "spacing",
+        _fortnightly,
+        {},
+        None,
+        "median spacing of the fit window's dates (2020-01-17 to 2020-06-05) is 14 calendar days",
+    ),
+    (
+        "flat benchmark",
+        _constant("index.csv", "idx", "100"),
+        {},
+        None,
+        "benchmark 'idx' (index.csv) has the same return on every date of the fit window "
+        "(2020-01-10 to 2020-03-20); there is nothing to track",
+    ),
+    (
+        "all flat",
+        _constant("stocks.csv", "a", "5"),
+        {"constituents": (("stocks.csv", ("a",)),)},
+        None,
+        "every constituent has the same return on every date of the fit window",
+    ),
+    (
+        "rate at -100 %",
+        _constant("rate.csv", "rate", "-100"),
+        {"risk_free": RiskFreeSpec(Path("rate.csv"), "rate", "percent", "annual")},
+        None,
+        "an annual risk-free rate of -100 % is at or below -100 %",
+    ),
 ]
 
 
@@ -555,10 +725,13 @@ def test_load_errors(files, change, options, as_of, match):
 def test_too_few_dates_after_dropping_names_the_cause(files):
     for day in WEEKS[1:10]:
         _blank(files, "stocks.csv", "c", day)
-    with pytest.raises(DataError, match=re.escape(
-        "only 1 return date(s) are left in the fit window after leaving out dates with missing "
-        "values ('c' (stocks.csv): 9 dates (2020-01-10, 2020-01-17, 2020-01-24, ...))"
-    )):
+    with pytest.raises(
+        DataError,
+        match=re.escape(
+            "only 1 return date(s) are left in the fit window after leaving out dates with missing "
+            "values ('c' (stocks.csv): 9 dates (2020-01-10, 2020-01-17, 2020-01-24, ...))"
+        ),
+    ):
         load_tracking_data(make_job(files, missing="drop_dates", periods_per_year=52))
 
 
@@ -580,7 +753,7 @@ def test_demo_scenario_loads():
     assert len(result.dates) == 756 and result.dates[-1] == _d("2026-11-30")
     assert len(result.names) == 48
     assert (result.periods_per_year, result.periods_per_year_inferred) == (252, True)
-    assert 0.5 / 100 / 252 < result.risk_free.min() and result.risk_free.max() < 4 / 100 / 252
+    assert result.risk_free.min() > 0.5 / 100 / 252 and result.risk_free.max() < 4 / 100 / 252
     assert result.warnings == ()
     # the late listing reaches back into 2019 only, so the whole history needs drop_dates
     with pytest.raises(DataError, match="missing values on dates the fit window uses"):
@@ -591,8 +764,12 @@ def test_daily_data_from_friday_serve_a_monday_as_of_but_not_a_week_later(tmp_pa
     days = [d.strftime("%Y-%m-%d") for d in pd.bdate_range("2026-10-01", "2026-11-27")]
     prices = _walk(5, len(days), 3)
     _put(tmp_path, "index.csv", "date,idx", *(f"{d},{p:.6f}" for d, p in zip(days, prices[:, 0])))
-    _put(tmp_path, "stocks.csv", "date,a,b",
-         *(f"{d},{a:.6f},{b:.6f}" for d, a, b in zip(days, prices[:, 1], prices[:, 2])))
+    _put(
+        tmp_path,
+        "stocks.csv",
+        "date,a,b",
+        *(f"{d},{a:.6f},{b:.6f}" for d, a, b in zip(days, prices[:, 1], prices[:, 2])),
+    )
     job = make_job(tmp_path)
     monday = load_tracking_data(job, as_of=date(2026, 11, 30))  # data end Friday 2026-11-27
     assert monday.dates[-1] == _d("2026-11-27")

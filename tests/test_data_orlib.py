@@ -9,8 +9,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
-
 from orlib import orlib_path, read_orlib
+
 from trackfit.core.models import ModelSpec
 from trackfit.data import load_tracking_data
 from trackfit.job import (

@@ -63,8 +63,9 @@ def test_cross_validation_on_blocks_equals_direct_fold_fits(splitter):
         np.testing.assert_allclose(res.curves[0].fold_errors[:, f], err, rtol=1e-9)
 
 
-@pytest.mark.parametrize(("seed", "n", "p", "n_short"), [(44, 120, 20, 0), (45, 40, 120, 0),
-                                                         (46, 40, 120, 6)])
+@pytest.mark.parametrize(
+    ("seed", "n", "p", "n_short"), [(44, 120, 20, 0), (45, 40, 120, 0), (46, 40, 120, 6)]
+)
 @pytest.mark.parametrize("l1_ratio", [0.25, 0.75])
 @pytest.mark.parametrize("positive", [False, True])
 def test_enet_grid_path_equals_sklearn(seed, n, p, n_short, l1_ratio, positive):
@@ -77,6 +78,16 @@ def test_enet_grid_path_equals_sklearn(seed, n, p, n_short, l1_ratio, positive):
     Xs, ys = s.X / scaling.x_scale, s.y / scaling.y_scale
     for i in (5, 20, 39):
         # scikit-learn ElasticNet(fit_intercept=False, tol=1e-14) on the same scaled rows.
-        ref = ElasticNet(alpha=alphas[i], l1_ratio=l1_ratio, fit_intercept=False,
-                         positive=positive, tol=1e-14, max_iter=1_000_000).fit(Xs, ys).coef_
+        ref = (
+            ElasticNet(
+                alpha=alphas[i],
+                l1_ratio=l1_ratio,
+                fit_intercept=False,
+                positive=positive,
+                tol=1e-14,
+                max_iter=1_000_000,
+            )
+            .fit(Xs, ys)
+            .coef_
+        )
         np.testing.assert_allclose(coefs[i], ref, rtol=0, atol=1e-8)

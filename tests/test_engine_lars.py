@@ -51,12 +51,17 @@ def test_path_equals_sklearn_lars_path_gram(name):
     # scikit-learn lars_path_gram(method="lasso") on the same Gram statistics (n_samples=1 so
     # that its alphas are ours), with max_iter far above the knots so that it does not stop early.
     ref_alphas, _, ref_coefs = lars_path_gram(
-        data.xty, data.gram, n_samples=1, method="lasso", positive=positive,
-        alpha_min=alphas[-1], max_iter=100_000,
+        data.xty,
+        data.gram,
+        n_samples=1,
+        method="lasso",
+        positive=positive,
+        alpha_min=alphas[-1],
+        max_iter=100_000,
     )
-    ref = np.array([
-        [np.interp(-a, -ref_alphas, ref_coefs[j]) for j in range(len(data.xty))] for a in alphas
-    ])
+    ref = np.array(
+        [[np.interp(-a, -ref_alphas, ref_coefs[j]) for j in range(len(data.xty))] for a in alphas]
+    )
     np.testing.assert_allclose(coefs, ref, rtol=0, atol=1e-9)
 
 
@@ -65,14 +70,20 @@ def test_path_equals_sklearn_lars_path_gram(name):
 def test_path_equals_lasso_at_tight_tolerance(name, positive):
     s, data = _data(name)
     alphas = _grid(data, positive, count=6, ratio=1e-2)
-    coefs, _steps, _ = lasso_path_gram(data.gram, data.xty, alphas, positive=positive,
-                                       max_active=data.n)
+    coefs, _steps, _ = lasso_path_gram(
+        data.gram, data.xty, alphas, positive=positive, max_active=data.n
+    )
     Xs = s.X / fit_scaling(s.X, s.y).x_scale
     ys = s.y / np.std(s.y)
     for alpha, coef in zip(alphas, coefs):
         # scikit-learn Lasso(fit_intercept=False, tol=1e-14) on the same scaled rows.
-        ref = Lasso(alpha=alpha, fit_intercept=False, positive=positive, tol=1e-14,
-                    max_iter=1_000_000).fit(Xs, ys).coef_
+        ref = (
+            Lasso(
+                alpha=alpha, fit_intercept=False, positive=positive, tol=1e-14, max_iter=1_000_000
+            )
+            .fit(Xs, ys)
+            .coef_
+        )
         np.testing.assert_allclose(coef, ref, rtol=0, atol=1e-8)
         assert enet_kkt_residual(data, coef, alpha, 0.0, positive=positive) < 1e-12
         if positive:
@@ -112,9 +123,8 @@ def test_single_threaded_guard_nests_and_changes_no_result():
     _s, data = _data("wide")
     alphas = _grid(data, False, count=20)
     plain = lasso_path_gram(data.gram, data.xty, alphas, max_active=data.n)[0]
-    with single_threaded():
-        with single_threaded():
-            inner = lasso_path_gram(data.gram, data.xty, alphas, max_active=data.n)[0]
+    with single_threaded(), single_threaded():
+        inner = lasso_path_gram(data.gram, data.xty, alphas, max_active=data.n)[0]
     np.testing.assert_array_equal(plain, inner)
 
 
@@ -137,19 +147,23 @@ def test_long_path_with_many_leaves_meets_its_conditions_and_matches_lars_path_g
     # Every knot is a join or a leave, and a name that left had joined first: knots minus the
     # names held at the end is twice the leaves (about 6 to 30 on these samples).
     assert steps.sum() - held[-1] > 10
-    assert max(
-        enet_kkt_residual(data, w, a, 0.0, positive=positive) for w, a in zip(coefs, alphas)
-    ) < 1e-11
+    assert (
+        max(enet_kkt_residual(data, w, a, 0.0, positive=positive) for w, a in zip(coefs, alphas))
+        < 1e-11
+    )
     if positive:
         assert coefs.min() >= 0.0
         return  # scikit-learn's positive path is not exact here (see the first test)
     # scikit-learn lars_path_gram(method="lasso"), max_iter far above the knots.
     ref_alphas, _, ref_coefs = lars_path_gram(
-        data.xty, data.gram, n_samples=1, method="lasso", alpha_min=alphas[-1], max_iter=100_000,
+        data.xty,
+        data.gram,
+        n_samples=1,
+        method="lasso",
+        alpha_min=alphas[-1],
+        max_iter=100_000,
     )
-    ref = np.array([
-        [np.interp(-a, -ref_alphas, ref_coefs[j]) for j in range(p)] for a in alphas
-    ])
+    ref = np.array([[np.interp(-a, -ref_alphas, ref_coefs[j]) for j in range(p)] for a in alphas])
     np.testing.assert_allclose(coefs, ref, rtol=0, atol=1e-8)
 
 

@@ -132,6 +132,16 @@ def test_enet_fine_grid_path_equals_sklearn(seed, n, p, positive):
     Xs, ys = s.X / scaling.x_scale, s.y / scaling.y_scale
     for i in (10, 60, 149):
         # scikit-learn ElasticNet(fit_intercept=False, tol=1e-14) on the same scaled rows.
-        ref = ElasticNet(alpha=alphas[i], l1_ratio=l1_ratio, fit_intercept=False,
-                         positive=positive, tol=1e-14, max_iter=1_000_000).fit(Xs, ys).coef_
+        ref = (
+            ElasticNet(
+                alpha=alphas[i],
+                l1_ratio=l1_ratio,
+                fit_intercept=False,
+                positive=positive,
+                tol=1e-14,
+                max_iter=1_000_000,
+            )
+            .fit(Xs, ys)
+            .coef_
+        )
         np.testing.assert_allclose(coefs[i], ref, rtol=0, atol=1e-8)

@@ -55,7 +55,13 @@ def test_final_fit_uses_the_whole_window_with_the_chosen_penalty():
     lasso = study.models[0]
     assert lasso.final_fit.alpha == lasso.cv.alpha == lasso.train_fit.alpha
     assert not np.array_equal(lasso.final_fit.weights, lasso.train_fit.weights)
-    assert [m.name for m in study.models] == ["lasso", "elastic_net", "ridge", "ols", "equal_weight"]
+    assert [m.name for m in study.models] == [
+        "lasso",
+        "elastic_net",
+        "ridge",
+        "ols",
+        "equal_weight",
+    ]
     assert study.n_train == 120 and study.n_holdout == 40
 
 
@@ -66,7 +72,9 @@ def test_metrics_are_those_of_the_train_weights_on_each_part():
         w = m.train_fit.weights
         active = X[120:] @ w - y[120:]
         assert m.holdout.periods == 40
-        assert m.holdout.tracking_error == pytest.approx(np.std(active, ddof=1) * np.sqrt(52), rel=1e-12)
+        assert m.holdout.tracking_error == pytest.approx(
+            np.std(active, ddof=1) * np.sqrt(52), rel=1e-12
+        )
         assert m.in_sample.periods == 120
 
 

@@ -20,8 +20,28 @@ ALLOWED = {
     "data": {"data", "job", "jobfile", "errors"},
     "evaluate": {"evaluate", "core", "errors"},
     "outcomes": {"outcomes", "evaluate", "core", "data", "job", "jobfile", "errors"},
-    "report": {"report", "outcomes", "evaluate", "core", "data", "job", "jobfile", "errors", "__init__"},
-    "commands": {"commands", "report", "outcomes", "evaluate", "core", "data", "job", "jobfile", "errors"},
+    "report": {
+        "report",
+        "outcomes",
+        "evaluate",
+        "core",
+        "data",
+        "job",
+        "jobfile",
+        "errors",
+        "__init__",
+    },
+    "commands": {
+        "commands",
+        "report",
+        "outcomes",
+        "evaluate",
+        "core",
+        "data",
+        "job",
+        "jobfile",
+        "errors",
+    },
     "cli": {"commands", "errors", "__init__"},
     "errors": set(),
     "__init__": set(),
@@ -39,10 +59,16 @@ def _imports(path: Path) -> list[tuple[int, str]]:
     found = []
     for node in ast.walk(tree):
         if isinstance(node, ast.Import):
-            found += [(node.lineno, a.name) for a in node.names if a.name.split(".")[0] == "trackfit"]
-        elif isinstance(node, ast.ImportFrom) and node.module and node.level == 0:
-            if node.module.split(".")[0] == "trackfit":
-                found.append((node.lineno, node.module))
+            found += [
+                (node.lineno, a.name) for a in node.names if a.name.split(".")[0] == "trackfit"
+            ]
+        elif (
+            isinstance(node, ast.ImportFrom)
+            and node.module
+            and node.level == 0
+            and node.module.split(".")[0] == "trackfit"
+        ):
+            found.append((node.lineno, node.module))
     return found
 
 
@@ -53,12 +79,18 @@ def _modules():
         yield name, path
 
 
-@pytest.mark.parametrize("name,path", list(_modules()), ids=lambda v: str(v) if isinstance(v, str) else "")
+@pytest.mark.parametrize(
+    "name,path", list(_modules()), ids=lambda v: str(v) if isinstance(v, str) else ""
+)
 def test_every_import_looks_down(name, path):
     layer = _part(name)
-    assert layer in ALLOWED, f"{name}: a new top-level part of trackfit; add it to ALLOWED and DEVELOPERS.md"
+    assert layer in ALLOWED, (
+        f"{name}: a new top-level part of trackfit; add it to ALLOWED and DEVELOPERS.md"
+    )
     allowed = ALLOWED[layer] | {layer}
-    bad = [f"line {line}: {target}" for line, target in _imports(path) if _part(target) not in allowed]
+    bad = [
+        f"line {line}: {target}" for line, target in _imports(path) if _part(target) not in allowed
+    ]
     assert not bad, f"{name} ({layer}) imports above itself: {bad}"
 
 

@@ -106,8 +106,9 @@ def test_a_beta_range_with_room_is_not_binding():
     X, y = _sample(seed=11, p=10)
     free = fit_limited(X, y, 1e-3, 0.0, Limits(long_only=True))
     beta = float(beta_coefficients(X, y) @ free.weights)
-    fit = fit_limited(X, y, 1e-3, 0.0, Limits(long_only=True,
-                                              linear=(beta_limit(beta - 0.5, beta + 0.5),)))
+    fit = fit_limited(
+        X, y, 1e-3, 0.0, Limits(long_only=True, linear=(beta_limit(beta - 0.5, beta + 0.5),))
+    )
     statuses = {s.kind: s for s in fit.limits}
     assert not statuses["beta_min"].binding and statuses["beta_min"].slack > BINDING
     np.testing.assert_allclose(fit.weights, free.weights, atol=1e-7)
@@ -128,8 +129,13 @@ def test_cross_validation_folds_use_their_training_rows_for_beta():
     curve = cv.curves[0]
     for f, fold in enumerate(cv.folds):
         Xt, yt = X[fold.train_start : fold.train_stop], y[fold.train_start : fold.train_stop]
-        assert abs(beta_coefficients(Xt, yt) @ np.full(p, 1 / p)
-                   - beta_coefficients(X, y) @ np.full(p, 1 / p)) > 1e-3  # the case is real
+        assert (
+            abs(
+                beta_coefficients(Xt, yt) @ np.full(p, 1 / p)
+                - beta_coefficients(X, y) @ np.full(p, 1 / p)
+            )
+            > 1e-3
+        )  # the case is real
         for i, alpha in enumerate(curve.alphas):
             fit = fit_limited(Xt, yt, alpha, 0.0, limits)
             assert abs(beta_coefficients(Xt, yt) @ fit.weights - 1.0) <= 1e-9
@@ -150,12 +156,15 @@ def _write(folder: Path, text: str) -> Path:
     return path
 
 
-@pytest.mark.parametrize("text,expected", [
-    ("  beta: {min: 0.95, max: 1.05}\n", Bounds(0.95, 1.05)),
-    ("  beta: {min: 0.9}\n", Bounds(0.9, None)),
-    ("  beta: {max: 1}\n", Bounds(None, 1.0)),
-    ("  beta: null\n", None),
-])
+@pytest.mark.parametrize(
+    "text,expected",
+    [
+        ("  beta: {min: 0.95, max: 1.05}\n", Bounds(0.95, 1.05)),
+        ("  beta: {min: 0.9}\n", Bounds(0.9, None)),
+        ("  beta: {max: 1}\n", Bounds(None, 1.0)),
+        ("  beta: null\n", None),
+    ],
+)
 def test_beta_forms(tmp_path, text, expected):
     assert load_job(_write(tmp_path, L + text)).limits.beta == expected
 
@@ -163,11 +172,16 @@ def test_beta_forms(tmp_path, text, expected):
 BETA_ERRORS = [
     ("  beta: 1.0\n", "'limits.beta' must be a mapping with 'min', 'max' or both"),
     ("  beta: {}\n", "'limits.beta' must be a mapping with 'min', 'max' or both"),
-    ("  beta: {min: 1.1, max: 0.9}\n",
-     "'limits.beta.min' (1.1) is above 'limits.beta.max' (0.9); the minimum must not exceed "
-     "the maximum"),
-    ("  beta: {min: -11}\n", "'limits.beta.min' must be a number from -10 to 10 (1 = moves "
-     "with the benchmark); got -11."),
+    (
+        "  beta: {min: 1.1, max: 0.9}\n",
+        "'limits.beta.min' (1.1) is above 'limits.beta.max' (0.9); the minimum must not exceed "
+        "the maximum",
+    ),
+    (
+        "  beta: {min: -11}\n",
+        "'limits.beta.min' must be a number from -10 to 10 (1 = moves "
+        "with the benchmark); got -11.",
+    ),
     ("  beta: {max: 12.5}\n", "'limits.beta.max' must be a number from -10 to 10"),
     ("  beta: {min: '1'}\n", "'limits.beta.min' must be a number from -10 to 10"),
     ("  beta: {min: .nan}\n", "'limits.beta.min' must be a number from -10 to 10"),
@@ -196,10 +210,15 @@ def test_cli_fit_and_check_carry_the_beta_limit(tmp_path):
     market = 0.02 * rng.standard_normal(n)
     X = market[:, None] * rng.uniform(0.6, 1.4, 8) + 0.015 * rng.standard_normal((n, 8))
     y = X @ np.array([0.3, 0.2, 0, 0.2, 0, 0.15, 0.15, 0]) + 0.002 * rng.standard_normal(n)
-    (tmp_path / "members.csv").write_text("date," + ",".join(NAMES) + "\n" + "".join(
-        f"{d}," + ",".join(f"{v:.8f}" for v in X[i]) + "\n" for i, d in enumerate(dates)))
-    (tmp_path / "index.csv").write_text("date,idx\n" + "".join(
-        f"{d},{y[i]:.8f}\n" for i, d in enumerate(dates)))
+    (tmp_path / "members.csv").write_text(
+        "date,"
+        + ",".join(NAMES)
+        + "\n"
+        + "".join(f"{d}," + ",".join(f"{v:.8f}" for v in X[i]) + "\n" for i, d in enumerate(dates))
+    )
+    (tmp_path / "index.csv").write_text(
+        "date,idx\n" + "".join(f"{d},{y[i]:.8f}\n" for i, d in enumerate(dates))
+    )
     job = tmp_path / "beta.yaml"
     job.write_text(
         "benchmark: {file: index.csv, column: idx}\n"
@@ -218,8 +237,11 @@ def test_cli_fit_and_check_carry_the_beta_limit(tmp_path):
     assert result.exit_code == 0, result.stderr
     report = (out / "report.md").read_text()
     assert "- Beta to the benchmark exactly 1 (cov(portfolio, benchmark)" in report
-    assert re.search(r"\| Beta to the benchmark, at least \| 1\.000000 \| 1\.000000 \| "
-                     r"0\.000000 \| yes \|", report)
+    assert re.search(
+        r"\| Beta to the benchmark, at least \| 1\.000000 \| 1\.000000 \| "
+        r"0\.000000 \| yes \|",
+        report,
+    )
     assert "beta is a plain number." in report
     summary = json.loads((out / "summary.json").read_text())
     limits = summary["limits"]

@@ -27,25 +27,25 @@ def test_the_lock_holds_our_pid_and_is_removed_on_exit(tmp_path):
 
 
 def test_the_lock_is_removed_when_the_work_fails(tmp_path):
-    with pytest.raises(RuntimeError):
-        with OutputLock(tmp_path):
-            raise RuntimeError("boom")
+    with pytest.raises(RuntimeError), OutputLock(tmp_path):
+        raise RuntimeError("boom")
     assert not (tmp_path / LOCK_NAME).exists()
 
 
 def test_a_live_owner_refuses_a_second_writer(tmp_path):
     (tmp_path / LOCK_NAME).write_text(lock_text(os.getpid(), "2026-11-30T06:00:00+00:00"))
-    with pytest.raises(OutputLocked, match=rf"pid {os.getpid()}.*wait for it to finish"):
-        with OutputLock(tmp_path):
-            pass
+    with (
+        pytest.raises(OutputLocked, match=rf"pid {os.getpid()}.*wait for it to finish"),
+        OutputLock(tmp_path),
+    ):
+        pass
     assert (tmp_path / LOCK_NAME).exists()  # the other run's lock is left alone
 
 
 def test_two_locks_on_one_folder_cannot_both_be_held(tmp_path):
     with OutputLock(tmp_path):
-        with pytest.raises(OutputLocked):
-            with OutputLock(tmp_path):
-                pass
+        with pytest.raises(OutputLocked), OutputLock(tmp_path):
+            pass
         assert (tmp_path / LOCK_NAME).exists()
 
 
@@ -60,9 +60,8 @@ def test_a_stale_lock_is_taken_over_with_a_warning(tmp_path):
 
 def test_a_fresh_unreadable_lock_is_respected(tmp_path):
     (tmp_path / LOCK_NAME).write_text("")
-    with pytest.raises(OutputLocked, match="does not say which run"):
-        with OutputLock(tmp_path):
-            pass
+    with pytest.raises(OutputLocked, match="does not say which run"), OutputLock(tmp_path):
+        pass
 
 
 def test_an_old_unreadable_lock_is_stale(tmp_path):

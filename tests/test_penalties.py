@@ -29,8 +29,11 @@ CASES = [
     ("lasso", None, ModelSpec("lasso", "lasso", (1.0,))),
     ("ridge", None, ModelSpec("ridge", "ridge", (0.0,))),
     ("elastic_net", {"l1_ratio": [0.5, 0.8]}, ModelSpec("elastic_net", "elastic_net", (0.5, 0.8))),
-    ("adaptive_lasso", {"gamma": 2},
-     ModelSpec("adaptive_lasso", "adaptive_lasso", (1.0,), (("gamma", 2.0),))),
+    (
+        "adaptive_lasso",
+        {"gamma": 2},
+        ModelSpec("adaptive_lasso", "adaptive_lasso", (1.0,), (("gamma", 2.0),)),
+    ),
 ]
 IDS = [c[0] for c in CASES]
 SPLITTER = ForwardChaining(4)
@@ -47,16 +50,18 @@ def _data(seed: int = 3, n: int = 200, p: int = 15):
 
 
 def test_every_kind_has_a_case():
-    assert IDS == list(KINDS)
+    assert list(KINDS) == IDS
 
 
 @pytest.mark.parametrize("kind, options, spec", CASES, ids=IDS)
 def test_job_round_trip(tmp_path: Path, kind, options, spec):
-    text = yaml.safe_dump({
-        "benchmark": {"file": "index.csv", "column": "lbx"},
-        "constituents": {"file": "members.csv"},
-        "models": {kind: options},
-    })
+    text = yaml.safe_dump(
+        {
+            "benchmark": {"file": "index.csv", "column": "lbx"},
+            "constituents": {"file": "members.csv"},
+            "models": {kind: options},
+        }
+    )
     (tmp_path / "job.yaml").write_text(text, encoding="utf-8")
     assert load_job(tmp_path / "job.yaml").models == (spec,)
     # Listed by name alone: the kind's defaults.
@@ -89,8 +94,9 @@ def test_cv_then_fit(kind, options, spec, limits):
     # Original units through the TRUE scaling of these rows, whatever the kind solved in.
     scaling = fit_scaling(X, y)
     np.testing.assert_array_equal(fit.scaling.x_scale, scaling.x_scale)
-    np.testing.assert_allclose(to_original_units(fit.coef_std, fit.scaling), fit.weights,
-                               rtol=1e-12, atol=1e-15)
+    np.testing.assert_allclose(
+        to_original_units(fit.coef_std, fit.scaling), fit.weights, rtol=1e-12, atol=1e-15
+    )
     assert fit.cash == 1.0 - float(fit.weights.sum())
     assert np.count_nonzero(fit.weights[:5]) == 5  # the true names are held
 

@@ -4,14 +4,14 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-
 from jobs import write_small_job
+
 from trackfit.commands.backtest import run_backtest_job
 from trackfit.commands.fit import fit_plan
 from trackfit.commands.fit_plan import plan_fit
 from trackfit.commands.prepare import day, prepare
-from trackfit.evaluate.recipe import Model, fit_warnings
 from trackfit.core.fit import fit_ols
+from trackfit.evaluate.recipe import Model, fit_warnings
 from trackfit.job import load_job
 
 LIMITS = {
@@ -58,7 +58,9 @@ def test_the_backtest_falls_back_to_per_date_statistics_under_a_small_memory_cap
     job = load_job(write_small_job(tmp_path, text))
     small = run_backtest_job(job)
     assert any("above the cap of 0 MiB ('backtest.memory_mb')" in n for n in small.notes)
-    shared = run_backtest_job(load_job(write_small_job(tmp_path, JOB.format(hold="lasso", limits=""))))
+    shared = run_backtest_job(
+        load_job(write_small_job(tmp_path, JOB.format(hold="lasso", limits="")))
+    )
     assert not any("backtest.memory_mb" in n for n in shared.notes)
     for a, b in zip(small.fits, shared.fits):
         assert a.alpha == b.alpha
@@ -71,10 +73,14 @@ def test_the_ols_collinearity_warning_names_the_rows_and_reaches_every_caller():
     X = np.column_stack([X, X[:, 0] + X[:, 1] * 1e-9])  # a near-copy: collinear
     y = X[:, :3] @ np.array([0.3, 0.3, 0.4])
     fit = fit_ols(X, y)
-    words = fit_warnings(Model.baseline("ols"), fit, ("a", "b", "c", "d"), "the fit window", held=True)
+    words = fit_warnings(
+        Model.baseline("ols"), fit, ("a", "b", "c", "d"), "the fit window", held=True
+    )
     if fit.kkt_residual > 1e-8:
-        assert any(w.startswith("ols: the normal equations hold only to") and "on the fit window" in w
-                   for w in words)
+        assert any(
+            w.startswith("ols: the normal equations hold only to") and "on the fit window" in w
+            for w in words
+        )
     else:  # this machine's LAPACK solved it exactly: then nothing is said
         assert words == []
 

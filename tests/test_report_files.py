@@ -16,7 +16,7 @@ def test_writes_text_exactly_and_makes_the_folder(tmp_path):
     path = tmp_path / "a" / "b" / "weights.csv"
     atomic_write_text(path, "name,weight\nÅsgard Tools,0.5\n")
     # Bytes as given: UTF-8, "\n" kept as is on every platform.
-    assert path.read_bytes() == "name,weight\nÅsgard Tools,0.5\n".encode("utf-8")
+    assert path.read_bytes() == "name,weight\nÅsgard Tools,0.5\n".encode()
     assert os.listdir(path.parent) == ["weights.csv"]
 
 

@@ -64,8 +64,10 @@ SEARCH = SupportSearch(
     removed_small=(3,),
 )
 
-NOTE = ("With more constituents than rows the weights are not unique; the one with the "
-        "smallest sum of squared standardized weights is reported.")
+NOTE = (
+    "With more constituents than rows the weights are not unique; the one with the "
+    "smallest sum of squared standardized weights is reported."
+)
 
 
 def make_limited_outcome(root: Path, **changes) -> FitOutcome:
@@ -230,16 +232,21 @@ def test_status_pointing_outside_the_constituents_is_a_bug(tmp_path):
     models = (dataclasses.replace(lasso, final_fit=bad),) + o.study.models[1:]
     o = dataclasses.replace(o, study=dataclasses.replace(o.study, models=models))
     for render in (render_markdown, render_summary_json):
-        with pytest.raises(ValueError, match=r"'upper' limit status points at constituent "
-                                             r"position 5, but there are 5 constituents"):
+        with pytest.raises(
+            ValueError,
+            match=r"'upper' limit status points at constituent "
+            r"position 5, but there are 5 constituents",
+        ):
             render(o)
 
 
 def test_name_cap_names_search_and_cost(limited):
     part = _sub(_section(render_markdown(limited)), "### Name cap")
-    assert ("The held model lasso holds 3 names (cap: 3), chosen on the whole window by a "
-            "search over sets of names, each set refitted under every other limit; the winning "
-            "start was forward selection.") in part
+    assert (
+        "The held model lasso holds 3 names (cap: 3), chosen on the whole window by a "
+        "search over sets of names, each set refitted under every other limit; the winning "
+        "start was forward selection."
+    ) in part
     for row in (
         "| Names chosen | 3 |",
         "| Winning start | forward selection |",
@@ -297,8 +304,10 @@ def test_trades_table_is_cut_at_forty_rows(tmp_path, n, shown):
     assert len(rows) == shown
     assert [_cells(r)[0].strip() for r in rows] == [t.name for t in many.trades[:shown]]
     if n > TRADE_ROWS:
-        assert (f"The 40 largest of {n} trades, largest change first (weights in percent); the "
-                "other 17 are listed in summary.json:") in part
+        assert (
+            f"The 40 largest of {n} trades, largest change first (weights in percent); the "
+            "other 17 are listed in summary.json:"
+        ) in part
     else:
         assert f"All {n} trades" in part
     assert f"| New names | {n} |" in part
@@ -336,21 +345,31 @@ def test_per_name_bounds_built_without_job_words_are_listed_from_the_arrays(tmp_
 @pytest.mark.parametrize(
     ("status", "words"),
     [
-        (LimitStatus("long_only", 1, 0.0, 0.0, 0.0, True),
-         "Weight of Brightwater Foods (long-only), at least"),
-        (LimitStatus("lower", np.int64(4), 0.01, 0.02, 0.01, False),
-         "Weight of Eastfield Power, at least"),
+        (
+            LimitStatus("long_only", 1, 0.0, 0.0, 0.0, True),
+            "Weight of Brightwater Foods (long-only), at least",
+        ),
+        (
+            LimitStatus("lower", np.int64(4), 0.01, 0.02, 0.01, False),
+            "Weight of Eastfield Power, at least",
+        ),
         (LimitStatus("upper", 0, 0.4, 0.4, 0.0, True), "Weight of Alder Mills, at most"),
         (LimitStatus("budget_min", None, 1.0, 1.0, 0.0, True), "Sum of weights, at least"),
         (LimitStatus("budget_max", None, 1.0, 1.0, 0.0, True), "Sum of weights, at most"),
-        (LimitStatus("group_min", "Energy", 0.1, 0.2, 0.1, False),
-         "Total weight of group Energy, at least"),
-        (LimitStatus("group_max", "Energy", 0.3, 0.2, 0.1, False),
-         "Total weight of group Energy, at most"),
+        (
+            LimitStatus("group_min", "Energy", 0.1, 0.2, 0.1, False),
+            "Total weight of group Energy, at least",
+        ),
+        (
+            LimitStatus("group_max", "Energy", 0.3, 0.2, 0.1, False),
+            "Total weight of group Energy, at most",
+        ),
         (LimitStatus("max_turnover", None, 0.2, 0.1, 0.1, False), "One-way turnover, at most"),
         (LimitStatus("max_names", None, 3.0, 3.0, 0.0, True), "Names held, at most"),
-        (LimitStatus("min_position", None, 0.01, 0.02, 0.01, False),
-         "Smallest position held, at least"),
+        (
+            LimitStatus("min_position", None, 0.01, 0.02, 0.01, False),
+            "Smallest position held, at least",
+        ),
         # A kind this reporter does not know yet is shown as it is named, never dropped.
         (LimitStatus("sector_neutral", "Energy", 0.0, 0.0, 0.0, True), "sector neutral: Energy"),
     ],
@@ -374,8 +393,7 @@ def test_status_names_refuse_bad_targets(target, match):
 
 def test_held_baseline_has_no_statuses_or_search(tmp_path):
     section = _section(render_markdown(make_limited_outcome(tmp_path, held="equal_weight")))
-    assert ("The held model equal_weight reported no limit statuses for its final fit."
-            in section)
+    assert "The held model equal_weight reported no limit statuses for its final fit." in section
     assert "The held model equal_weight was not fitted under the cap on names." in section
     # The cost of the cap is still shown for the models fitted under it.
     assert "| lasso | 1.2346% |" in section
@@ -428,7 +446,9 @@ def test_summary_json_job_limits_as_written(limited):
         "min_position": 0.0125,
     }
     assert job["holdings"] == {
-        "file": "data/holdings.csv", "turnover_penalty": 0.001, "max_turnover": 0.3
+        "file": "data/holdings.csv",
+        "turnover_penalty": 0.001,
+        "max_turnover": 0.3,
     }
 
 
@@ -438,21 +458,35 @@ def test_summary_json_limits_in_force_statuses_and_search(limited):
     assert limits["any"] is True
     in_force = limits["in_force"]
     assert list(in_force) == [
-        "long_only", "budget", "per_name", "groups", "max_names", "min_position",
-        "turnover_penalty", "max_turnover", "outside_turnover",
+        "long_only",
+        "budget",
+        "per_name",
+        "groups",
+        "max_names",
+        "min_position",
+        "turnover_penalty",
+        "max_turnover",
+        "outside_turnover",
     ]
     # Infinite bounds (no bound on that side) are null.
     assert in_force["per_name"]["Cobalt Rail"] == {"min": 0.05, "max": 0.25}
     assert in_force["per_name"]["Alder Mills"] == {"min": None, "max": 0.4}
     assert list(in_force["per_name"]) == list(NAMES)
     assert in_force["groups"][0] == {
-        "name": "Industrials", "members": ["Alder Mills", "Cobalt Rail"], "min": None, "max": 0.7
+        "name": "Industrials",
+        "members": ["Alder Mills", "Cobalt Rail"],
+        "min": None,
+        "max": 0.7,
     }
     assert in_force["outside_turnover"] == 0.025
     # Statuses in the order the fit gave them, with positions resolved to names.
     assert len(limits["statuses"]) == len(STATUSES)
     assert limits["statuses"][2] == {
-        "kind": "upper", "name": "Alder Mills", "bound": 0.4, "value": 0.4, "slack": 0.0,
+        "kind": "upper",
+        "name": "Alder Mills",
+        "bound": 0.4,
+        "value": 0.4,
+        "slack": 0.0,
         "binding": True,
     }
     assert limits["statuses"][7]["name"] == "Industrials"
@@ -473,8 +507,9 @@ def test_summary_json_uncapped_metrics_per_model(limited):
     lasso, enet, ols, _ = models
     for m in models:
         keys = list(m)
-        assert keys[keys.index("holdout") + 1: keys.index("holdout") + 3] == [
-            "uncapped_in_sample", "uncapped_holdout"
+        assert keys[keys.index("holdout") + 1 : keys.index("holdout") + 3] == [
+            "uncapped_in_sample",
+            "uncapped_holdout",
         ]
     assert lasso["uncapped_in_sample"]["tracking_error"] == 0.011
     assert lasso["uncapped_holdout"]["periods"] == N_HOLDOUT
@@ -489,11 +524,18 @@ def test_summary_json_trades_and_notes(limited):
     assert t["one_way_turnover"] == 0.275
     assert t["counts"] == {"buy": 1, "sell": 0, "new": 1, "dropped": 2, "hold": 2}
     assert [x["name"] for x in t["trades"]] == [
-        "Cobalt Rail", "Brightwater Foods", "Alder Mills", "Zephyr Mining",
-        "Dunmore Textiles", "Eastfield Power",
+        "Cobalt Rail",
+        "Brightwater Foods",
+        "Alder Mills",
+        "Zephyr Mining",
+        "Dunmore Textiles",
+        "Eastfield Power",
     ]
     assert t["trades"][1] == {
-        "name": "Brightwater Foods", "current": 0.2, "target": 0.0, "change": -0.2,
+        "name": "Brightwater Foods",
+        "current": 0.2,
+        "target": 0.0,
+        "change": -0.2,
         "action": "dropped",
     }
     assert summary["notes"] == [NOTE]

@@ -34,9 +34,9 @@ def _chunks(png: bytes) -> list[tuple[bytes, bytes]]:
     assert png[:8] == plots.PNG_SIGNATURE
     chunks, at = [], 8
     while at < len(png):
-        (length,) = struct.unpack(">I", png[at:at + 4])
-        kind, data = png[at + 4:at + 8], png[at + 8:at + 8 + length]
-        (crc,) = struct.unpack(">I", png[at + 8 + length:at + 12 + length])
+        (length,) = struct.unpack(">I", png[at : at + 4])
+        kind, data = png[at + 4 : at + 8], png[at + 8 : at + 8 + length]
+        (crc,) = struct.unpack(">I", png[at + 8 + length : at + 12 + length])
         assert zlib.crc32(kind + data) == crc, kind
         chunks.append((kind, data))
         at += 12 + length
@@ -93,8 +93,8 @@ def drawn(renders):
 
 @needs_matplotlib
 @pytest.mark.parametrize(
-    "kind", ["cv_lasso", "cv_elastic_net", "top_weights", "cumulative", "rolling_te",
-             "names_turnover"]
+    "kind",
+    ["cv_lasso", "cv_elastic_net", "top_weights", "cumulative", "rolling_te", "names_turnover"],
 )
 def test_every_figure_is_a_well_formed_png_of_the_fixed_width(drawn, kind):
     png = drawn[kind]
@@ -114,8 +114,8 @@ def test_fixed_sizes_where_the_content_does_not_set_the_height(drawn):
 
 @needs_matplotlib
 @pytest.mark.parametrize(
-    "kind", ["cv_lasso", "cv_elastic_net", "top_weights", "cumulative", "rolling_te",
-             "names_turnover"]
+    "kind",
+    ["cv_lasso", "cv_elastic_net", "top_weights", "cumulative", "rolling_te", "names_turnover"],
 )
 def test_same_input_gives_the_same_bytes_with_no_software_or_time_tag(renders, drawn, kind):
     again = renders[kind]()
@@ -130,8 +130,13 @@ def test_the_users_matplotlib_settings_do_not_change_the_bytes(drawn):
     import matplotlib
 
     dates, port, bench, *_ = _backtest_arrays()
-    changed = {"lines.linewidth": 5.0, "font.size": 20, "axes.facecolor": "yellow",
-               "figure.dpi": 33, "savefig.dpi": 300}
+    changed = {
+        "lines.linewidth": 5.0,
+        "font.size": 20,
+        "axes.facecolor": "yellow",
+        "figure.dpi": 33,
+        "savefig.dpi": 300,
+    }
     with matplotlib.rc_context(changed):
         png = plots.cumulative_png(dates, port, bench)
     assert png == drawn["cumulative"]
@@ -155,8 +160,9 @@ def test_drawing_neither_imports_pyplot_nor_switches_the_backend(tmp_path):
         "assert 'matplotlib.pyplot' not in sys.modules, 'pyplot was imported'\n"
         "assert dict.__getitem__(matplotlib.rcParams, 'backend') == before\n"
     )
-    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                          cwd=tmp_path, timeout=60)
+    done = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, cwd=tmp_path, timeout=60
+    )
     assert done.returncode == 0, done.stderr
 
 
@@ -172,9 +178,10 @@ def _with_held_weights(outcome, weights, top_weights=None):
     if top_weights is not None:
         job = out.job
         out = dataclasses.replace(
-            out, job=dataclasses.replace(
+            out,
+            job=dataclasses.replace(
                 job, output=dataclasses.replace(job.output, top_weights=top_weights)
-            )
+            ),
         )
     return out
 
@@ -198,8 +205,9 @@ def test_top_weights_with_nothing_to_show(fit_outcome, weights, top):
 @needs_matplotlib
 def test_cv_curve_without_any_finite_error(fit_outcome):
     lasso = fit_outcome.study.models[0]
-    curve = dataclasses.replace(lasso.cv.curves[0],
-                                mean_error=np.full(lasso.cv.curves[0].alphas.size, np.nan))
+    curve = dataclasses.replace(
+        lasso.cv.curves[0], mean_error=np.full(lasso.cv.curves[0].alphas.size, np.nan)
+    )
     model = dataclasses.replace(lasso, cv=dataclasses.replace(lasso.cv, curves=(curve,)))
     assert plots.cv_curve_png(model).startswith(plots.PNG_SIGNATURE)
 
@@ -219,30 +227,53 @@ _D = np.array(["2026-01-31", "2026-02-28", "2026-03-31"], dtype="datetime64[D]")
 @pytest.mark.parametrize(
     ("call", "match"),
     [
-        (lambda: plots.cumulative_png(_D, [0.1, 0.2], [0.1, 0.2, 0.3]),
-         r"'portfolio' parameter of cumulative_png must be a 1-d array with one value per date "
-         r"\(3\)\. Got shape \(2,\)"),
-        (lambda: plots.cumulative_png(_D, [0.1, 0.2, 0.3], [0.1, np.nan, 0.3]),
-         r"'benchmark' parameter of cumulative_png must hold finite numbers\. Got a non-finite "
-         r"value at position 1"),
-        (lambda: plots.cumulative_png([], [], []),
-         r"'dates' parameter of cumulative_png must be a non-empty 1-d array\. Got shape \(0,\)"),
-        (lambda: plots.cumulative_png(["2026-01-31", "not a date", "x"], [0] * 3, [0] * 3),
-         r"'dates' parameter of cumulative_png must hold dates"),
-        (lambda: plots.cumulative_png(np.array(["2026-01-31", "NaT", "2026-03-31"],
-                                               dtype="datetime64[D]"), [0] * 3, [0] * 3),
-         r"must not hold missing dates \(NaT\)"),
-        (lambda: plots.rolling_te_png(_D, [0.0] * 3, 12, 1),
-         r"'window' parameter of rolling_te_png must be an integer >= 2\. Got 1\."),
-        (lambda: plots.rolling_te_png(_D, [0.0] * 3, 12, True),
-         r"'window' parameter of rolling_te_png must be an integer >= 2\. Got True\."),
-        (lambda: plots.rolling_te_png(_D, [0.0] * 3, 0, 2),
-         r"'periods_per_year' parameter of rolling_te_png must be an integer >= 1\. Got 0\."),
-        (lambda: plots.rolling_te_png(_D, [0.0] * 3, 12.0, 2),
-         r"'periods_per_year' parameter of rolling_te_png must be an integer >= 1\. Got 12\.0\."),
-        (lambda: plots.names_turnover_png(_D, [3, 4, 5], [[0.1, 0.2, 0.3]]),
-         r"'turnover' parameter of names_turnover_png must be a 1-d array with one value per "
-         r"date \(3\)\. Got shape \(1, 3\)"),
+        (
+            lambda: plots.cumulative_png(_D, [0.1, 0.2], [0.1, 0.2, 0.3]),
+            r"'portfolio' parameter of cumulative_png must be a 1-d array with one value per date "
+            r"\(3\)\. Got shape \(2,\)",
+        ),
+        (
+            lambda: plots.cumulative_png(_D, [0.1, 0.2, 0.3], [0.1, np.nan, 0.3]),
+            r"'benchmark' parameter of cumulative_png must hold finite numbers\. Got a non-finite "
+            r"value at position 1",
+        ),
+        (
+            lambda: plots.cumulative_png([], [], []),
+            r"'dates' parameter of cumulative_png must be a non-empty 1-d array\. Got shape \(0,\)",
+        ),
+        (
+            lambda: plots.cumulative_png(["2026-01-31", "not a date", "x"], [0] * 3, [0] * 3),
+            r"'dates' parameter of cumulative_png must hold dates",
+        ),
+        (
+            lambda: plots.cumulative_png(
+                np.array(["2026-01-31", "NaT", "2026-03-31"], dtype="datetime64[D]"),
+                [0] * 3,
+                [0] * 3,
+            ),
+            r"must not hold missing dates \(NaT\)",
+        ),
+        (
+            lambda: plots.rolling_te_png(_D, [0.0] * 3, 12, 1),
+            r"'window' parameter of rolling_te_png must be an integer >= 2\. Got 1\.",
+        ),
+        (
+            lambda: plots.rolling_te_png(_D, [0.0] * 3, 12, True),
+            r"'window' parameter of rolling_te_png must be an integer >= 2\. Got True\.",
+        ),
+        (
+            lambda: plots.rolling_te_png(_D, [0.0] * 3, 0, 2),
+            r"'periods_per_year' parameter of rolling_te_png must be an integer >= 1\. Got 0\.",
+        ),
+        (
+            lambda: plots.rolling_te_png(_D, [0.0] * 3, 12.0, 2),
+            r"'periods_per_year' parameter of rolling_te_png must be an integer >= 1\. Got 12\.0\.",
+        ),
+        (
+            lambda: plots.names_turnover_png(_D, [3, 4, 5], [[0.1, 0.2, 0.3]]),
+            r"'turnover' parameter of names_turnover_png must be a 1-d array with one value per "
+            r"date \(3\)\. Got shape \(1, 3\)",
+        ),
     ],
 )
 def test_bad_backtest_arrays_are_refused(call, match):
@@ -260,8 +291,10 @@ def test_a_model_without_cross_validation_has_no_curve(fit_outcome):
 
 
 def test_markdown_lists_figures_last_as_relative_images(fit_outcome):
-    text = render_markdown(fit_outcome, figures=[("Largest weights held, lasso", "top.png"),
-                                                 ("Odd [caption]", "with space.png")])
+    text = render_markdown(
+        fit_outcome,
+        figures=[("Largest weights held, lasso", "top.png"), ("Odd [caption]", "with space.png")],
+    )
     tail = text.split(HEADINGS[-1])[1]
     assert tail.split(FIGURES_HEADING)[1] == (
         "\n\n![Largest weights held, lasso](top.png)\n\n![Odd \\[caption\\]](<with space.png>)\n"
@@ -336,8 +369,9 @@ def test_write_reports_with_figures_twice_gives_identical_bytes(fit_outcome, tmp
     assert [p.read_bytes() for p in first] == [p.read_bytes() for p in second]
 
 
-def test_write_reports_without_figures_writes_only_the_text_files(fit_outcome, tmp_path,
-                                                                 monkeypatch):
+def test_write_reports_without_figures_writes_only_the_text_files(
+    fit_outcome, tmp_path, monkeypatch
+):
     def never(*_args):
         raise AssertionError("no figure should be drawn")
 
@@ -348,8 +382,9 @@ def test_write_reports_without_figures_writes_only_the_text_files(fit_outcome, t
     assert FIGURES_HEADING not in (tmp_path / "out" / "report.md").read_text(encoding="utf-8")
 
 
-def test_without_matplotlib_no_png_is_written_and_the_report_says_so(fit_outcome, tmp_path,
-                                                                    monkeypatch):
+def test_without_matplotlib_no_png_is_written_and_the_report_says_so(
+    fit_outcome, tmp_path, monkeypatch
+):
     def never(*_args):
         raise AssertionError("no figure should be drawn without matplotlib")
 
@@ -365,8 +400,9 @@ def test_without_matplotlib_no_png_is_written_and_the_report_says_so(fit_outcome
     assert report == render_markdown(fit_outcome, figures_skipped=True)
 
 
-def test_a_failing_figure_writes_nothing_and_keeps_earlier_reports(fit_outcome, tmp_path,
-                                                                  monkeypatch):
+def test_a_failing_figure_writes_nothing_and_keeps_earlier_reports(
+    fit_outcome, tmp_path, monkeypatch
+):
     out = tmp_path / "out"
     write_reports(fit_outcome, out)
     before = {p.name: p.read_bytes() for p in out.iterdir()}

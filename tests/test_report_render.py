@@ -203,12 +203,24 @@ def test_summary_json_data_summary(outcome):
         "rows": 24,
         "excess_of_risk_free": True,
         "steps": [
-            {"description": "align benchmark and constituent dates", "rows_before": 26,
-             "rows_after": 25, "dropped": 1},
-            {"description": "drop dates with missing values", "rows_before": 25,
-             "rows_after": 25, "dropped": 0},
-            {"description": "keep the fit window", "rows_before": 25, "rows_after": 24,
-             "dropped": 1},
+            {
+                "description": "align benchmark and constituent dates",
+                "rows_before": 26,
+                "rows_after": 25,
+                "dropped": 1,
+            },
+            {
+                "description": "drop dates with missing values",
+                "rows_before": 25,
+                "rows_after": 25,
+                "dropped": 0,
+            },
+            {
+                "description": "keep the fit window",
+                "rows_before": 25,
+                "rows_after": 24,
+                "dropped": 1,
+            },
         ],
     }
 
@@ -226,9 +238,14 @@ def test_summary_json_models(outcome):
     assert list(lasso["curves"][0]) == ["l1_ratio", "alphas", "mean_error", "std_error"]
     assert len(lasso["curves"][0]["alphas"]) == 30
     assert lasso["folds"][0] == {
-        "train_start": 0, "train_stop": 9, "val_start": 9, "val_stop": 12,
-        "train_first_date": "2024-12-31", "train_last_date": "2025-08-31",
-        "val_first_date": "2025-09-30", "val_last_date": "2025-11-30",
+        "train_start": 0,
+        "train_stop": 9,
+        "val_start": 9,
+        "val_stop": 12,
+        "train_first_date": "2024-12-31",
+        "train_last_date": "2025-08-31",
+        "val_first_date": "2025-09-30",
+        "val_last_date": "2025-11-30",
     }
     assert lasso["kkt_residual"] == {"train_fit": 2.5e-9, "final_fit": 7.25e-10}
     assert list(lasso["in_sample"]) == [f.name for f in dataclasses.fields(TrackingMetrics)]
@@ -289,8 +306,13 @@ def test_markdown_sections_in_order_with_the_caution(outcome):
     positions = [lines.index(h) for h in HEADINGS]
     assert positions == sorted(positions)
     assert lines.index(f"> {CAUTION}") < positions[0]
-    for word in ("not investment advice", "does not promise future tracking error",
-                 "mandate", "local regulation", "qualified professionals"):
+    for word in (
+        "not investment advice",
+        "does not promise future tracking error",
+        "mandate",
+        "local regulation",
+        "qualified professionals",
+    ):
         assert word in CAUTION
     assert text.endswith("\n") and not text.endswith("\n\n") and "\r" not in text
 
@@ -431,7 +453,9 @@ def test_writing_twice_gives_identical_bytes(tmp_path):
     assert [p.read_bytes() for p in first] == [p.read_bytes() for p in second]
     assert [p.read_bytes() for p in again] == [p.read_bytes() for p in second]
     assert sorted(p.name for p in (tmp_path / "a").iterdir()) == [
-        "report.md", "summary.json", "weights.csv"
+        "report.md",
+        "summary.json",
+        "weights.csv",
     ]
 
 

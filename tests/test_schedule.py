@@ -80,12 +80,15 @@ def test_month_end_on_a_monthly_calendar_is_every_row():
 
 def test_bounds_are_inclusive_and_applied_to_rebalance_dates():
     days = _days(BDAYS)
-    rows = rebalance_rows(
-        days, every="month_end", start=date(2025, 1, 31), end=date(2025, 6, 30)
-    )
+    rows = rebalance_rows(days, every="month_end", start=date(2025, 1, 31), end=date(2025, 6, 30))
     # 2025-01-31 is a Friday and 2025-06-30 a Monday: both month ends, both kept.
     assert [str(d) for d in days[rows]] == [
-        "2025-01-31", "2025-02-28", "2025-03-31", "2025-04-30", "2025-05-30", "2025-06-30",
+        "2025-01-31",
+        "2025-02-28",
+        "2025-03-31",
+        "2025-04-30",
+        "2025-05-30",
+        "2025-06-30",
     ]
     # An end inside a month whose data go on: that month's rebalance (2025-06-30) is after
     # the end and left out; 2025-06-27 is not a month end.
@@ -103,7 +106,11 @@ def test_periods_count_from_the_first_row_on_or_after_start():
     np.testing.assert_array_equal(rows, first + 5 * np.arange(5))
     # Five business days apart on a holiday-free calendar: every Monday.
     assert [str(d) for d in days[rows]] == [
-        "2025-01-06", "2025-01-13", "2025-01-20", "2025-01-27", "2025-02-03",
+        "2025-01-06",
+        "2025-01-13",
+        "2025-01-20",
+        "2025-01-27",
+        "2025-02-03",
     ]
 
 
@@ -137,22 +144,33 @@ DAYS = _days(pd.bdate_range("2026-01-05", "2026-03-31"))
 @pytest.mark.parametrize(
     ("kwargs", "match"),
     [
-        (dict(every="monthly"), r"'every' parameter .* must be one of 'month_end', 'week_end', "
-         r"'periods'\. Got 'monthly'"),
+        (
+            dict(every="monthly"),
+            r"'every' parameter .* must be one of 'month_end', 'week_end', "
+            r"'periods'\. Got 'monthly'",
+        ),
         (dict(every="periods"), r"'periods' parameter .* must be an int >= 1 .* Got None"),
         (dict(every="periods", periods=0), r"'periods' .* int >= 1 .* Got 0"),
         (dict(every="periods", periods=2.5), r"'periods' .* int >= 1 .* Got 2\.5"),
         (dict(every="periods", periods=True), r"'periods' .* int >= 1 .* Got True"),
         (dict(every="month_end", periods=5), r"only used with every='periods'"),
-        (dict(every="month_end", start=date(2026, 3, 1), end=date(2026, 2, 1)),
-         r"start 2026-03-01 is after end 2026-02-01"),
-        (dict(every="month_end", start=date(2026, 4, 1)),
-         r"No month end rebalance date falls in \[2026-04-01, any\]: the data run from "
-         r"2026-01-05 to 2026-03-31"),
-        (dict(every="week_end", start=date(2026, 1, 10), end=date(2026, 1, 11)),
-         r"No week end rebalance date falls in \[2026-01-10, 2026-01-11\]"),
-        (dict(every="periods", periods=3, end=date(2026, 1, 1)),
-         r"No periods rebalance date falls in \[any, 2026-01-01\]"),
+        (
+            dict(every="month_end", start=date(2026, 3, 1), end=date(2026, 2, 1)),
+            r"start 2026-03-01 is after end 2026-02-01",
+        ),
+        (
+            dict(every="month_end", start=date(2026, 4, 1)),
+            r"No month end rebalance date falls in \[2026-04-01, any\]: the data run from "
+            r"2026-01-05 to 2026-03-31",
+        ),
+        (
+            dict(every="week_end", start=date(2026, 1, 10), end=date(2026, 1, 11)),
+            r"No week end rebalance date falls in \[2026-01-10, 2026-01-11\]",
+        ),
+        (
+            dict(every="periods", periods=3, end=date(2026, 1, 1)),
+            r"No periods rebalance date falls in \[any, 2026-01-01\]",
+        ),
     ],
 )
 def test_errors(kwargs, match):
@@ -167,8 +185,11 @@ def test_errors(kwargs, match):
         (np.array([], dtype="datetime64[D]"), r"non-empty 1-d datetime64 .* shape \(0,\)"),
         (np.arange(5), r"non-empty 1-d datetime64 array\. Got dtype int64"),
         (DAYS.reshape(-1, 1), r"shape \(\d+, 1\)"),
-        (DAYS[[0, 2, 1]], r"strictly increasing\. Got 2026-01-07 at row 1 followed by "
-         r"2026-01-06 at row 2"),
+        (
+            DAYS[[0, 2, 1]],
+            r"strictly increasing\. Got 2026-01-07 at row 1 followed by "
+            r"2026-01-06 at row 2",
+        ),
         (DAYS[[0, 1, 1]], r"strictly increasing"),
         (np.array(["2026-01-05", "NaT"], dtype="datetime64[D]"), r"NaT\) at row 1"),
     ],

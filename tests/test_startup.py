@@ -67,15 +67,30 @@ def test_the_program_exits_with_the_command_code_and_flushes_its_output(tmp_path
     # The entry point skips Python's teardown (os._exit): everything printed must still arrive
     # and the exit code must be the command's.
     demo = ROOT / "examples" / "lumen_bay" / "job.yaml"
-    ok = subprocess.run([sys.executable, "-m", "trackfit.cli", "check", str(demo)], cwd=ROOT,
-                        capture_output=True, text=True, timeout=120)
+    ok = subprocess.run(
+        [sys.executable, "-m", "trackfit.cli", "check", str(demo)],
+        cwd=ROOT,
+        capture_output=True,
+        text=True,
+        timeout=120,
+    )
     assert ok.returncode == 0, ok.stderr
     assert ok.stdout.startswith("job: Lumen Bay 60 tracker") and ok.stdout.endswith("\n")
     assert len(ok.stdout.splitlines()) > 10
-    bad = subprocess.run([sys.executable, "-m", "trackfit.cli", "fit", str(tmp_path / "no.yaml")],
-                         cwd=ROOT, capture_output=True, text=True, timeout=120)
+    bad = subprocess.run(
+        [sys.executable, "-m", "trackfit.cli", "fit", str(tmp_path / "no.yaml")],
+        cwd=ROOT,
+        capture_output=True,
+        text=True,
+        timeout=120,
+    )
     assert bad.returncode == 2
     assert bad.stderr.count("\n") == 1 and "no.yaml" in bad.stderr
-    usage = subprocess.run([sys.executable, "-m", "trackfit.cli", "fit"], cwd=ROOT,
-                           capture_output=True, text=True, timeout=120)
+    usage = subprocess.run(
+        [sys.executable, "-m", "trackfit.cli", "fit"],
+        cwd=ROOT,
+        capture_output=True,
+        text=True,
+        timeout=120,
+    )
     assert usage.returncode == 2 and "Missing argument" in usage.stderr

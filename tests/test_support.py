@@ -283,8 +283,13 @@ def _lars_supports(data, positive):
     """Supports of scikit-learn's exact LARS lasso path, decreasing penalty, with their ranges."""
     # scikit-learn lars_path_gram(method="lasso"): the exact piecewise-linear lasso path.
     alphas, _, coefs = lars_path_gram(
-        Xy=data.xty, Gram=data.gram, n_samples=1, method="lasso", positive=positive,
-        alpha_min=0.0, max_iter=10_000,
+        Xy=data.xty,
+        Gram=data.gram,
+        n_samples=1,
+        method="lasso",
+        positive=positive,
+        alpha_min=0.0,
+        max_iter=10_000,
     )
     out = []  # (support, highest penalty, lowest penalty) of every breakpoint and segment
     for k in range(coefs.shape[1]):

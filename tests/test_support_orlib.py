@@ -81,9 +81,7 @@ def test_screened_search_on_real_data(fitting_rows, searched):
     refit, (_, objective, _, record) = searched
     screened = search_support(CachedRefit(budget_refit(X, y), 31), 31, 10, screen=3)
     assert screened[1] == objective and screened[3].chosen == record.chosen
-    quick = search_support(
-        CachedRefit(budget_refit(X, y), 31), 31, 10, screen=3, full_swaps=False
-    )
+    quick = search_support(CachedRefit(budget_refit(X, y), 31), 31, 10, screen=3, full_swaps=False)
     assert quick[3].evaluations < record.evaluations
     assert _tracking_error(X, y, quick[2]) <= 0.027
 

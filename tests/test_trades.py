@@ -14,7 +14,11 @@ NAMES = ("Alder Mills", "Brightwater Foods", "Cobalt Rail", "Dunmore Textiles", 
 TARGET = np.array([0.30, 0.25, 0.0, 0.20, 0.25])
 # Held now: Cobalt Rail (to be dropped), two non-constituents (sold), Alder Mills unchanged.
 CURRENT_NAMES = (
-    "Zephyr Mining", "Cobalt Rail", "Alder Mills", "Brightwater Foods", "Orchard Glass"
+    "Zephyr Mining",
+    "Cobalt Rail",
+    "Alder Mills",
+    "Brightwater Foods",
+    "Orchard Glass",
 )
 CURRENT = np.array([0.05, 0.15, 0.30, 0.35, 0.05])
 
@@ -109,18 +113,30 @@ def test_returns_plain_floats():
 @pytest.mark.parametrize(
     ("args", "match"),
     [
-        ((("A", "B"), np.array([0.5]), (), np.array([])),
-         r"The target weights have shape \(1,\), but there are 2 target names\."),
-        ((("A",), np.array([0.5]), ("B",), np.array([0.1, 0.2])),
-         r"The current weights have shape \(2,\), but there are 1 current names\."),
-        ((("A", "A"), np.array([0.5, 0.5]), (), np.array([])),
-         r"The target names list 'A' more than once\."),
-        ((("A",), np.array([0.5]), ("B", "B"), np.array([0.1, 0.2])),
-         r"The current names list 'B' more than once\."),
-        ((("A", "B"), np.array([np.nan, 0.5]), (), np.array([])),
-         r"The target weight of 'A' is not a finite number\."),
-        ((("A",), np.array([0.5]), ("B", "C"), np.array([0.1, np.inf])),
-         r"The current weight of 'C' is not a finite number\."),
+        (
+            (("A", "B"), np.array([0.5]), (), np.array([])),
+            r"The target weights have shape \(1,\), but there are 2 target names\.",
+        ),
+        (
+            (("A",), np.array([0.5]), ("B",), np.array([0.1, 0.2])),
+            r"The current weights have shape \(2,\), but there are 1 current names\.",
+        ),
+        (
+            (("A", "A"), np.array([0.5, 0.5]), (), np.array([])),
+            r"The target names list 'A' more than once\.",
+        ),
+        (
+            (("A",), np.array([0.5]), ("B", "B"), np.array([0.1, 0.2])),
+            r"The current names list 'B' more than once\.",
+        ),
+        (
+            (("A", "B"), np.array([np.nan, 0.5]), (), np.array([])),
+            r"The target weight of 'A' is not a finite number\.",
+        ),
+        (
+            (("A",), np.array([0.5]), ("B", "C"), np.array([0.1, np.inf])),
+            r"The current weight of 'C' is not a finite number\.",
+        ),
     ],
 )
 def test_bad_inputs_are_refused(args, match):

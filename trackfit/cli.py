@@ -74,7 +74,9 @@ class _Date(click.ParamType):
         try:
             return date.fromisoformat(value)
         except ValueError:
-            self.fail(f"{value!r} is not a date; write it as YYYY-MM-DD, e.g. 2026-11-30", param, ctx)
+            self.fail(
+                f"{value!r} is not a date; write it as YYYY-MM-DD, e.g. 2026-11-30", param, ctx
+            )
 
 
 _JOB = click.argument("job", type=click.Path(dir_okay=False, path_type=Path))
@@ -189,9 +191,17 @@ def fit(
     The paths of the files written are printed on stdout, one per line. Exit code 1 means the
     files were written but with warnings (--no-warnings-exit makes that 0).
     """
+
     def work():
-        written = run_fit(job, as_of=as_of, out_dir=out_dir, layout=layout, figures=figures,
-                          progress=_say(quiet), notify=_notify(quiet))
+        written = run_fit(
+            job,
+            as_of=as_of,
+            out_dir=out_dir,
+            layout=layout,
+            figures=figures,
+            progress=_say(quiet),
+            notify=_notify(quiet),
+        )
         return _finish(written, quiet, warnings_exit)
 
     ctx.exit(_guarded(work))
@@ -258,10 +268,18 @@ def backtest(
     job's backtest section. The paths of the files written are printed on stdout. Progress
     goes to stderr when it is a terminal.
     """
+
     def work():
         written = run_backtest_command(
-            job, as_of=as_of, out_dir=out_dir, layout=layout, n_jobs=n_jobs, backend=backend,
-            scheduler=scheduler, figures=figures, progress=_say(quiet, only_on_terminal=True),
+            job,
+            as_of=as_of,
+            out_dir=out_dir,
+            layout=layout,
+            n_jobs=n_jobs,
+            backend=backend,
+            scheduler=scheduler,
+            figures=figures,
+            progress=_say(quiet, only_on_terminal=True),
             notify=_notify(quiet),
         )
         return _finish(written, quiet, warnings_exit)
@@ -273,11 +291,18 @@ def backtest(
 @click.argument("old", type=click.Path(dir_okay=False, path_type=Path))
 @click.argument("new", type=click.Path(dir_okay=False, path_type=Path))
 @click.option(
-    "--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True,
+    "--format",
+    "fmt",
+    type=click.Choice(FORMATS),
+    default="text",
+    show_default=True,
     help="text for a terminal, csv or json for scripts.",
 )
 @click.option(
-    "--out", "out_file", type=click.Path(dir_okay=False, path_type=Path), default=None,
+    "--out",
+    "out_file",
+    type=click.Path(dir_okay=False, path_type=Path),
+    default=None,
     help="Write to this file (atomically) and print its path, instead of printing the diff.",
 )
 def diff(old: Path, new: Path, fmt: str, out_file: Path | None) -> None:

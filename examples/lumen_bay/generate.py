@@ -30,34 +30,76 @@ OUT = Path(__file__).resolve().parent / "data"
 #: sector -> ten companies; a leading "~" marks a company the fund may not trade.
 SECTORS: dict[str, tuple[str, ...]] = {
     "harbour_logistics": (
-        "kestrel_quays", "ossery_freight", "~corlew_docks", "brannock_cranes",
-        "vellin_warehousing", "tern_stevedores", "pellow_containers", "quillan_towage",
-        "~dunmarra_cargo", "skellan_pilotage",
+        "kestrel_quays",
+        "ossery_freight",
+        "~corlew_docks",
+        "brannock_cranes",
+        "vellin_warehousing",
+        "tern_stevedores",
+        "pellow_containers",
+        "quillan_towage",
+        "~dunmarra_cargo",
+        "skellan_pilotage",
     ),
     "tidal_energy": (
-        "~ravel_tidal", "averin_currents", "lisk_turbines", "carrow_grid",
-        "murrin_lagoon_power", "halvey_wave", "brinefield_power", "tormay_cables",
-        "~sallow_point_generation", "fulmar_tidal_works",
+        "~ravel_tidal",
+        "averin_currents",
+        "lisk_turbines",
+        "carrow_grid",
+        "murrin_lagoon_power",
+        "halvey_wave",
+        "brinefield_power",
+        "tormay_cables",
+        "~sallow_point_generation",
+        "fulmar_tidal_works",
     ),
     "kelp_and_fisheries": (
-        "wrackline_kelp", "dunlin_oysters", "~gannet_bay_fisheries", "petrel_smokehouse",
-        "skua_seaweed_foods", "brinholt_canning", "plover_mussels", "cawdry_fish_market",
-        "sanderling_hatcheries", "~knotweir_salt_cod",
+        "wrackline_kelp",
+        "dunlin_oysters",
+        "~gannet_bay_fisheries",
+        "petrel_smokehouse",
+        "skua_seaweed_foods",
+        "brinholt_canning",
+        "plover_mussels",
+        "cawdry_fish_market",
+        "sanderling_hatcheries",
+        "~knotweir_salt_cod",
     ),
     "island_finance": (
-        "lanternhill_bank", "~brannock_assurance", "pellow_mutual", "tormay_credit",
-        "dunmarra_trust", "skellan_savings", "lumenbay_mutual", "halvey_leasing",
-        "~murrin_pension_trust", "lisk_exchange_house",
+        "lanternhill_bank",
+        "~brannock_assurance",
+        "pellow_mutual",
+        "tormay_credit",
+        "dunmarra_trust",
+        "skellan_savings",
+        "lumenbay_mutual",
+        "halvey_leasing",
+        "~murrin_pension_trust",
+        "lisk_exchange_house",
     ),
     "salt_and_minerals": (
-        "kestrel_minerals", "greyshingle_sands", "ravel_quarries", "~saltpan_chemicals",
-        "whimbrel_salt_works", "cawdry_granite", "sallow_kaolin", "ossery_ironsands",
-        "quillan_lime", "~dunlin_aggregates",
+        "kestrel_minerals",
+        "greyshingle_sands",
+        "ravel_quarries",
+        "~saltpan_chemicals",
+        "whimbrel_salt_works",
+        "cawdry_granite",
+        "sallow_kaolin",
+        "ossery_ironsands",
+        "quillan_lime",
+        "~dunlin_aggregates",
     ),
     "ferries_and_visitors": (
-        "razorbill_ferries", "~lanternhill_hotels", "skellan_island_tours",
-        "guillemot_ferry_lines", "averin_harbour_inns", "tormay_marinas", "corlew_charters",
-        "pellow_lighthouse_stays", "~vellin_ferry_yards", "fulmar_air_link",
+        "razorbill_ferries",
+        "~lanternhill_hotels",
+        "skellan_island_tours",
+        "guillemot_ferry_lines",
+        "averin_harbour_inns",
+        "tormay_marinas",
+        "corlew_charters",
+        "pellow_lighthouse_stays",
+        "~vellin_ferry_yards",
+        "fulmar_air_link",
     ),
 }
 
@@ -66,8 +108,12 @@ LATE_LISTING = ("sanderling_hatcheries", "2019-06-17")
 
 #: Deposit rate (annual %) the central bank of the island steers toward, by date.
 RATE_PATH = (
-    ("2019-01-01", 1.25), ("2020-03-02", 0.50), ("2021-09-01", 0.50),
-    ("2023-06-01", 3.75), ("2024-09-02", 3.50), ("2026-11-30", 2.25),
+    ("2019-01-01", 1.25),
+    ("2020-03-02", 0.50),
+    ("2021-09-01", 0.50),
+    ("2023-06-01", 3.75),
+    ("2024-09-02", 3.50),
+    ("2026-11-30", 2.25),
 )
 MEETING_EVERY = 30  # business days between rate decisions; each moves at most 0.25
 
@@ -116,6 +162,7 @@ def simulate(rng: np.random.Generator, days: pd.DatetimeIndex):
 
 def deposit_rate(days: pd.DatetimeIndex) -> np.ndarray:
     """Annual percent, moving by at most 0.25 at each meeting toward RATE_PATH."""
+
     def day_numbers(values) -> np.ndarray:
         return np.asarray(values, dtype="datetime64[D]").astype(np.int64)
 

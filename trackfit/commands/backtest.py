@@ -19,7 +19,7 @@ from pathlib import Path
 import numpy as np
 
 from trackfit.commands.output import Notify, Written, output_folder, with_lock
-from trackfit.commands.prepare import Prepared, day, design_statements, prepare
+from trackfit.commands.prepare import day, design_statements, prepare
 from trackfit.core.cv import window_bounds
 from trackfit.core.folds import ForwardChaining
 from trackfit.core.gram import RowBlocks, prefix_blocks
@@ -27,7 +27,14 @@ from trackfit.core.limits import Limits
 from trackfit.data import TrackingData
 from trackfit.errors import DataError, JobError, SolverError, TrackfitError
 from trackfit.evaluate.backtest import run_backtest
-from trackfit.evaluate.recipe import BASELINES, Model, StudyDesign, choose_penalty, fit_model, fit_warnings
+from trackfit.evaluate.recipe import (
+    BASELINES,
+    Model,
+    StudyDesign,
+    choose_penalty,
+    fit_model,
+    fit_warnings,
+)
 from trackfit.evaluate.schedule import rebalance_rows
 from trackfit.job import BacktestSpec, Job, load_job
 from trackfit.outcomes.backtest import BacktestOutcome, DatedFit, NameHistory
@@ -90,9 +97,11 @@ def default_backtest_folder(job: Job) -> Path:
 def _spec(job: Job) -> BacktestSpec:
     spec = job.backtest or BacktestSpec()
     if spec.window == "rolling" and job.window.lookback is None:
-        raise JobError(f"{job.path.name}: the job has no 'backtest' section, so the backtest "
-                       "uses a rolling window of 'window.lookback' rows, but 'window.lookback' is "
-                       "not set; set it, or add 'backtest: {window: expanding}'")
+        raise JobError(
+            f"{job.path.name}: the job has no 'backtest' section, so the backtest "
+            "uses a rolling window of 'window.lookback' rows, but 'window.lookback' is "
+            "not set; set it, or add 'backtest: {window: expanding}'"
+        )
     return spec
 
 
@@ -112,27 +121,35 @@ def _min_rows(job: Job, splitter: ForwardChaining, lookback: int | None, n: int)
 def _schedule(job: Job, spec: BacktestSpec, data: TrackingData, least: int) -> np.ndarray:
     d = data.dates
     try:
-        rows = rebalance_rows(d, every=spec.every, start=spec.start, end=spec.end,
-                              periods=spec.periods)
+        rows = rebalance_rows(
+            d, every=spec.every, start=spec.start, end=spec.end, periods=spec.periods
+        )
     except ValueError as exc:
         raise DataError(f"{job.path.name}: backtest schedule: {exc}") from None
     need = f"{least} rows of history (the " + (
-        "window.lookback)" if spec.window == "rolling" else "rows the cross-validation folds need)")
+        "window.lookback)" if spec.window == "rolling" else "rows the cross-validation folds need)"
+    )
     if spec.start is None:
         rows = rows[rows >= least - 1]
         if rows.size == 0:
-            raise DataError(f"{job.path.name}: no rebalance date has {need}; the data run from "
-                            f"{d[0]} to {d[-1]} ({len(d)} rows); add history or shorten the "
-                            "window")
+            raise DataError(
+                f"{job.path.name}: no rebalance date has {need}; the data run from "
+                f"{d[0]} to {d[-1]} ({len(d)} rows); add history or shorten the "
+                "window"
+            )
     elif rows[0] < least - 1:
-        raise DataError(f"{job.path.name}: the first rebalance date {d[rows[0]]} (from "
-                        f"'backtest.start' {spec.start}) has {rows[0] + 1} rows of history, but "
-                        f"each fit needs {need}; set 'backtest.start' on or after "
-                        f"{d[least - 1]}, or add older data")
+        raise DataError(
+            f"{job.path.name}: the first rebalance date {d[rows[0]]} (from "
+            f"'backtest.start' {spec.start}) has {rows[0] + 1} rows of history, but "
+            f"each fit needs {need}; set 'backtest.start' on or after "
+            f"{d[least - 1]}, or add older data"
+        )
     if rows[0] >= len(d) - 1:
-        raise DataError(f"{job.path.name}: the first rebalance date {d[rows[0]]} is the last "
-                        "data date, so no period is held out of sample; move 'backtest.start' "
-                        "earlier or pass a later --as-of")
+        raise DataError(
+            f"{job.path.name}: the first rebalance date {d[rows[0]]} is the last "
+            "data date, so no period is held out of sample; move 'backtest.start' "
+            "earlier or pass a later --as-of"
+        )
     return rows
 
 
@@ -141,10 +158,12 @@ def _costs(job: Job, spec: BacktestSpec, names: Sequence[str]) -> np.ndarray:
     bps = np.full(len(names), spec.cost_bps)
     for name, value in spec.cost_bps_names:
         if name not in index:
-            raise JobError(f"{job.path.name}: 'backtest.cost_bps' lists {name!r}, which is not a "
-                           "constituent of this backtest; fix the name or remove it "
-                           "(constituents whose return never varies are left out; see the "
-                           "warnings)")
+            raise JobError(
+                f"{job.path.name}: 'backtest.cost_bps' lists {name!r}, which is not a "
+                "constituent of this backtest; fix the name or remove it "
+                "(constituents whose return never varies are left out; see the "
+                "warnings)"
+            )
         bps[index[name]] = value
     return bps
 
@@ -158,21 +177,30 @@ def _parallel(n_jobs: int, backend: str, scheduler: str | None):
     from joblib import Parallel, delayed, parallel_config
 
     if backend == "loky":
+
         def run(fn, rows):
             return Parallel(n_jobs=n_jobs, backend="loky")(delayed(fn)(r) for r in rows)
+
         return run
     try:
         from dask.distributed import Client, LocalCluster
     except ImportError:
-        raise JobError("--backend dask needs dask.distributed; install it with "
-                       "pip install 'trackfit[dask]', or use the default loky backend") from None
+        raise JobError(
+            "--backend dask needs dask.distributed; install it with "
+            "pip install 'trackfit[dask]', or use the default loky backend"
+        ) from None
 
     def run_dask(fn, rows):
         if scheduler is not None:
             client, cluster = Client(scheduler), None
         else:
-            cluster = LocalCluster(n_workers=n_jobs, threads_per_worker=1, host="127.0.0.1",
-                                   dashboard_address=None, processes=True)
+            cluster = LocalCluster(
+                n_workers=n_jobs,
+                threads_per_worker=1,
+                host="127.0.0.1",
+                dashboard_address=None,
+                processes=True,
+            )
             client = Client(cluster)
         try:
             with parallel_config(backend="dask"):
@@ -181,6 +209,7 @@ def _parallel(n_jobs: int, backend: str, scheduler: str | None):
             client.close()
             if cluster is not None:
                 cluster.close()
+
     return run_dask
 
 
@@ -194,9 +223,16 @@ def _history(names, dates, targets) -> tuple[np.ndarray, np.ndarray, tuple[NameH
         at = np.flatnonzero(held[:, j])
         if at.size == 0:
             continue
-        out.append(NameHistory(name=name, rebalances=int(at.size), first=day(dates[at[0]]),
-                               last=day(dates[at[-1]]), mean_weight=float(targets[:, j].mean()),
-                               last_weight=float(targets[-1, j])))
+        out.append(
+            NameHistory(
+                name=name,
+                rebalances=int(at.size),
+                first=day(dates[at[0]]),
+                last=day(dates[at[-1]]),
+                mean_weight=float(targets[:, j].mean()),
+                last_weight=float(targets[-1, j]),
+            )
+        )
     out.sort(key=lambda h: (-h.rebalances, h.name))
     return added, dropped, tuple(out)
 
@@ -289,11 +325,22 @@ def run_backtest_job(
         blocks, block_note = shared_blocks(
             data.constituents, data.benchmark, rows, lookback, design.splitter, spec.memory_mb
         )
-    fitter = RebalanceFitter(X=data.constituents, y=data.benchmark, dates=data.dates, names=data.names,
-                     model=model, design=design, limits=limits, lookback=lookback, blocks=blocks)
+    fitter = RebalanceFitter(
+        X=data.constituents,
+        y=data.benchmark,
+        dates=data.dates,
+        names=data.names,
+        model=model,
+        design=design,
+        limits=limits,
+        lookback=lookback,
+        blocks=blocks,
+    )
     d = data.dates
-    say(f"{len(data.names)} constituents, {len(rows)} rebalances ({d[rows[0]]} to "
-        f"{d[rows[-1]]}), {spec.window} window, {job.hold} held")
+    say(
+        f"{len(data.names)} constituents, {len(rows)} rebalances ({d[rows[0]]} to "
+        f"{d[rows[-1]]}), {spec.window} window, {job.hold} held"
+    )
 
     fits: dict[int, DatedFit] = {}
     parallel = None if coupled else _parallel(n_jobs, backend, scheduler)
@@ -312,8 +359,17 @@ def run_backtest_job(
     total = data.constituents if rf is None else data.constituents + rf[:, None]
     bench = data.benchmark if rf is None else data.benchmark + rf
     try:
-        result = run_backtest(total, bench, rf, rows, fit_at, mode=spec.mode, cost_bps=bps,
-                              periods_per_year=data.periods_per_year, coupled=coupled)
+        result = run_backtest(
+            total,
+            bench,
+            rf,
+            rows,
+            fit_at,
+            mode=spec.mode,
+            cost_bps=bps,
+            periods_per_year=data.periods_per_year,
+            coupled=coupled,
+        )
     except TrackfitError:
         raise
     except ValueError as exc:  # the portfolio's value fell to zero: the data's to explain
@@ -327,17 +383,32 @@ def run_backtest_job(
     if block_note is not None:
         notes.append(block_note)
     if job.window.holdout:
-        notes.append("'window.holdout' is not used: every backtest fit uses all rows of its "
-                     "window up to the rebalance date, and the periods after it are the test")
+        notes.append(
+            "'window.holdout' is not used: every backtest fit uses all rows of its "
+            "window up to the rebalance date, and the periods after it are the test"
+        )
     warnings = [*prepared.warnings, *design_warnings]
     for f in ordered:
         warnings.extend(f.warnings)
         notes.extend(f.notes)
     return BacktestOutcome(
-        job=job, spec=spec, data=data, as_of=day(d[-1]), model=job.hold, result=result,
-        fits=ordered, dates=d[rows], period_dates=d[result.first_row + 1:], added=added,
-        dropped=dropped, names=history, cost_bps=bps, coupled=coupled, lookback=lookback,
-        warnings=tuple(dict.fromkeys(warnings)), notes=tuple(dict.fromkeys(notes)),
+        job=job,
+        spec=spec,
+        data=data,
+        as_of=day(d[-1]),
+        model=job.hold,
+        result=result,
+        fits=ordered,
+        dates=d[rows],
+        period_dates=d[result.first_row + 1 :],
+        added=added,
+        dropped=dropped,
+        names=history,
+        cost_bps=bps,
+        coupled=coupled,
+        lookback=lookback,
+        warnings=tuple(dict.fromkeys(warnings)),
+        notes=tuple(dict.fromkeys(notes)),
     )
 
 
@@ -364,7 +435,11 @@ def run_backtest_command(
 
     def work() -> Written:
         outcome = run_backtest_job(
-            job, as_of=as_of, n_jobs=n_jobs, backend=backend, scheduler=scheduler,
+            job,
+            as_of=as_of,
+            n_jobs=n_jobs,
+            backend=backend,
+            scheduler=scheduler,
             progress=progress,
         )
         folder = output_folder(root, layout, as_of or outcome.as_of)

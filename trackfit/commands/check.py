@@ -37,9 +37,7 @@ def describe_plan(plan: FitPlan) -> list[str]:
         f"choose and fit on {plan.n_train} rows ({day(d[0])} to {day(d[plan.n_train - 1])})"
     )
     if plan.n_holdout:
-        lines.append(
-            f"holdout: {plan.n_holdout} rows ({day(d[plan.n_train])} to {day(d[-1])})"
-        )
+        lines.append(f"holdout: {plan.n_holdout} rows ({day(d[plan.n_train])} to {day(d[-1])})")
     else:
         lines.append("holdout: none")
     lines.append(
@@ -75,8 +73,10 @@ def _limit_lines(limits: Limits) -> list[str]:
     if limits.lower is not None or limits.upper is not None:
         out.append("per-name bounds")
     for g in limits.groups:
-        out.append(f"group {g.name}: [{g.lower if g.lower is not None else '-'}, "
-                   f"{g.upper if g.upper is not None else '-'}]")
+        out.append(
+            f"group {g.name}: [{g.lower if g.lower is not None else '-'}, "
+            f"{g.upper if g.upper is not None else '-'}]"
+        )
     out += [linear_words(item) for item in worded_linear(limits)]
     if limits.max_names is not None:
         out.append(f"at most {limits.max_names} names")

@@ -92,9 +92,7 @@ def build_limits(
     return limits, holdings, tuple(warnings)
 
 
-def _name_bounds(
-    job: Job, index: dict[str, int]
-) -> tuple[np.ndarray | None, np.ndarray | None]:
+def _name_bounds(job: Job, index: dict[str, int]) -> tuple[np.ndarray | None, np.ndarray | None]:
     spec = job.limits
     if spec.weight is None and not spec.names:
         return None, None

@@ -75,11 +75,16 @@ def splitter_of(job: Job) -> ForwardChaining:
 def design_of(job: Job) -> StudyDesign:
     """The job's folds, rule and penalty grid."""
     return StudyDesign(
-        splitter=splitter_of(job), rule=job.cv.rule, count=job.grid.count, min_ratio=job.grid.min_ratio
+        splitter=splitter_of(job),
+        rule=job.cv.rule,
+        count=job.grid.count,
+        min_ratio=job.grid.min_ratio,
     )
 
 
-def prepare(job: Job, as_of: date | None = None, *, backtest: BacktestSpec | None = None) -> Prepared:
+def prepare(
+    job: Job, as_of: date | None = None, *, backtest: BacktestSpec | None = None
+) -> Prepared:
     """Read, align, cut, build the limits and check them: everything before fitting.
 
     Parameters

@@ -169,5 +169,12 @@ def adaptive_reweighting(
     )
 
 
-__all__ = ["PILOT_COUNT", "PILOT_SPEC", "Reweighting", "adaptive_reweighting", "pilot_ridge",
-           "pilot_splitter", "reweighted_scaling"]
+__all__ = [
+    "PILOT_COUNT",
+    "PILOT_SPEC",
+    "Reweighting",
+    "adaptive_reweighting",
+    "pilot_ridge",
+    "pilot_splitter",
+    "reweighted_scaling",
+]

@@ -36,9 +36,7 @@ class _FoldData:
     limits: Limits = NO_LIMITS  # resolved on the fold's training rows (Limits.on_rows)
 
 
-def _limited_fold_errors(
-    folds: list[_FoldData], alphas: np.ndarray, l1_ratio: float
-) -> np.ndarray:
+def _limited_fold_errors(folds: list[_FoldData], alphas: np.ndarray, l1_ratio: float) -> np.ndarray:
     """As :func:`_fold_errors`, each penalty fitted under the mandate limits."""
     errors = np.empty((len(alphas), len(folds)))
     for f, fold in enumerate(folds):
@@ -265,7 +263,11 @@ def cross_validate(
         )
     penalties = model_kind(spec.kind).penalties(spec)
     whole_scaling, pilot_notes = _working_scaling(X, y, spec, splitter)
-    scalings = fold_scalings(X, y, spec, splitter, folds) if refit_scaling else [whole_scaling] * len(folds)
+    scalings = (
+        fold_scalings(X, y, spec, splitter, folds)
+        if refit_scaling
+        else [whole_scaling] * len(folds)
+    )
     spans = [(f.train_start, f.train_stop) for f in folds]
     # The grids need the Gram matrix of all rows only for ridge; otherwise X'y alone.
     whole_gram = any(p.grid_needs_gram for p in penalties)
@@ -341,7 +343,9 @@ def cross_validate(
         limit = best.mean_error[ai] + best.std_error[ai]
         chosen = int(np.flatnonzero(best.mean_error <= limit)[0])
     if penalties[ci].top_holds_nothing and chosen == 0:
-        why = "had the smallest CV error" if ai == 0 else "was chosen by the one-standard-error rule"
+        why = (
+            "had the smallest CV error" if ai == 0 else "was chosen by the one-standard-error rule"
+        )
         notes.append(f"{spec.name}: the largest penalty, which holds no names, {why}")
     return CVResult(
         curves=tuple(curves),

@@ -53,9 +53,7 @@ def fit_penalized(
     """
     scaling = fit_scaling(X, y)
     data = standardized_gram(X, y, scaling)
-    sol = (solver or default_solver()).path(
-        data, np.array([alpha]), l1_ratio, positive=positive
-    )
+    sol = (solver or default_solver()).path(data, np.array([alpha]), l1_ratio, positive=positive)
     check_accuracy(float(sol.kkt_residuals[0]), f"fit at alpha={alpha:.6g}")
     coef_std = _embed(sol.coefs[0], data.columns, X.shape[1])
     weights = to_original_units(coef_std, scaling)

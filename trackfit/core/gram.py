@@ -197,7 +197,12 @@ def gram_from_blocks(blocks: RowBlocks, start: int, stop: int, scaling: Scaling)
     """
     first = int(np.searchsorted(blocks.bounds, start))
     last = int(np.searchsorted(blocks.bounds, stop))
-    if last >= len(blocks.bounds) or blocks.bounds[first] != start or blocks.bounds[last] != stop or last <= first:
+    if (
+        last >= len(blocks.bounds)
+        or blocks.bounds[first] != start
+        or blocks.bounds[last] != stop
+        or last <= first
+    ):
         raise ValueError(
             f"rows [{start}, {stop}) are not a run of whole blocks; build the blocks on "
             "bounds that include both ends (trackfit.core.cv.window_bounds gives them for "

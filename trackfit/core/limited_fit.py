@@ -19,7 +19,7 @@ from trackfit.core.fit import check_accuracy, fit_penalized
 from trackfit.core.gram import GramData, standardized_gram
 from trackfit.core.limits import Limits, LimitStatus
 from trackfit.core.penalties import Penalty
-from trackfit.core.results import FittedWeights, Scaling, SupportSearch
+from trackfit.core.results import FittedWeights, Scaling
 from trackfit.core.scaling import fit_scaling, to_original_units
 from trackfit.core.solvers import default_solver
 from trackfit.core.support import enforce_min_position, lasso_path_support, search_support
@@ -84,7 +84,9 @@ def _count_statuses(weights: np.ndarray, limits: Limits) -> tuple[LimitStatus, .
 class _Refitter:
     """Refits on supports under every limit but the name count, caching by support."""
 
-    def __init__(self, data: GramData, scaling: Scaling, alpha: float, l1_ratio: float, limits: Limits):
+    def __init__(
+        self, data: GramData, scaling: Scaling, alpha: float, l1_ratio: float, limits: Limits
+    ):
         self.data, self.scaling, self.alpha, self.l1_ratio = data, scaling, alpha, l1_ratio
         self.limits = replace(limits, max_names=None, min_position=None)
         self.cache: dict[bytes, object] = {}
@@ -210,5 +212,11 @@ def fit_limited(
         return fit_penalized(X, y, alpha, l1_ratio)
     scaling = fit_scaling(X, y)
     return fit_limited_gram(
-        standardized_gram(X, y, scaling), scaling, alpha, l1_ratio, limits, search=search, start=start
+        standardized_gram(X, y, scaling),
+        scaling,
+        alpha,
+        l1_ratio,
+        limits,
+        search=search,
+        start=start,
     )

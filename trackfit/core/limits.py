@@ -313,7 +313,11 @@ class Limits:
             return self
         linear = tuple(
             LinearLimit(
-                item.kind, item.label, item.lower, item.upper, item.members,
+                item.kind,
+                item.label,
+                item.lower,
+                item.upper,
+                item.members,
                 ROW_COEFFICIENTS[item.kind](X, y),
             )
             if item.depends_on_rows

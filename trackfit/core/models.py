@@ -147,8 +147,9 @@ class ModelKind:
             if option.mixes:
                 ratios = tuple(float(v) for v in value)
             else:
-                params.append((option.name, tuple(float(v) for v in value) if option.many
-                               else float(value)))
+                params.append(
+                    (option.name, tuple(float(v) for v in value) if option.many else float(value))
+                )
         return ModelSpec(name or self.name, self.name, ratios, tuple(params))
 
     def describe(self, spec: ModelSpec) -> str:
@@ -179,8 +180,15 @@ MODEL_KINDS: dict[str, ModelKind] = {
             "L1 and L2 penalties; cross-validation picks the mix",
             (0.25, 0.5, 0.75),
             options=(
-                OptionRule("l1_ratio", (0.25, 0.5, 0.75), 0.0, 1.0,
-                           words="strictly between 0 and 1", many=True, mixes=True),
+                OptionRule(
+                    "l1_ratio",
+                    (0.25, 0.5, 0.75),
+                    0.0,
+                    1.0,
+                    words="strictly between 0 and 1",
+                    many=True,
+                    mixes=True,
+                ),
             ),
         ),
         ModelKind(
@@ -210,5 +218,12 @@ def describe_model(spec: ModelSpec) -> str:
     return model_kind(spec.kind).describe(spec)
 
 
-__all__ = ["KINDS", "MODEL_KINDS", "ModelKind", "ModelSpec", "OptionRule", "describe_model",
-           "model_kind"]
+__all__ = [
+    "KINDS",
+    "MODEL_KINDS",
+    "ModelKind",
+    "ModelSpec",
+    "OptionRule",
+    "describe_model",
+    "model_kind",
+]

@@ -53,9 +53,7 @@ def check_positive_prices(prices: np.ndarray, dates: np.ndarray, labels: Sequenc
             )
 
 
-def missing_by_column(
-    missing: np.ndarray, dates: np.ndarray, labels: Sequence[str]
-) -> list[str]:
+def missing_by_column(missing: np.ndarray, dates: np.ndarray, labels: Sequence[str]) -> list[str]:
     """One line per column with missing values: how many, and the first few dates.
 
     Parameters

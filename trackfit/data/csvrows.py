@@ -23,8 +23,10 @@ def read_rows(path: Path, label: str, *, what: str, key: str) -> list[tuple[int,
     """
     if not path.is_file():
         state = "is a folder, not a file" if path.is_dir() else "does not exist"
-        raise DataError(f"{label}: the {what} {state} ({path}); check '{key}' in the job file "
-                        "(relative paths start from the job file's folder)")
+        raise DataError(
+            f"{label}: the {what} {state} ({path}); check '{key}' in the job file "
+            "(relative paths start from the job file's folder)"
+        )
     try:
         with path.open(encoding="utf-8-sig", newline="") as handle:
             reader = csv.reader(handle, strict=True)
@@ -39,7 +41,9 @@ def read_rows(path: Path, label: str, *, what: str, key: str) -> list[tuple[int,
     except UnicodeDecodeError as err:
         raise DataError(f"{label}: not UTF-8 text ({err.reason}); save it as UTF-8 CSV") from None
     except csv.Error as err:
-        raise DataError(f"{label}: line {reader.line_num}: not well-formed CSV ({err}); check the "
-                        "quotes on that line") from None
+        raise DataError(
+            f"{label}: line {reader.line_num}: not well-formed CSV ({err}); check the "
+            "quotes on that line"
+        ) from None
     except OSError as err:
         raise DataError(f"{label}: cannot read the {what} ({err.strerror})") from None

@@ -41,38 +41,52 @@ def read_groups(spec: GroupsSpec, *, label: str | None = None) -> dict[str, str]
     label = str(spec.file) if label is None else label
     rows = _read_rows(spec.file, label)
     if not rows:
-        raise DataError(f"{label}: the groups file is empty; expected a header line with the "
-                        f"columns {spec.name_column!r} and {spec.group_column!r}, then one line "
-                        "per name")
+        raise DataError(
+            f"{label}: the groups file is empty; expected a header line with the "
+            f"columns {spec.name_column!r} and {spec.group_column!r}, then one line "
+            "per name"
+        )
     (_, header), body = rows[0], rows[1:]
     _check_header(header, label)
     at = {}
     for key, column in (("name_column", spec.name_column), ("group_column", spec.group_column)):
         if column not in header:
-            raise DataError(f"{label}: no column {column!r} (named by limits.groups.{key}); "
-                            f"{_hint(column, header)}; fix the name in the job file or the "
-                            "file's header")
+            raise DataError(
+                f"{label}: no column {column!r} (named by limits.groups.{key}); "
+                f"{_hint(column, header)}; fix the name in the job file or the "
+                "file's header"
+            )
         at[key] = header.index(column)
     if not body:
-        raise DataError(f"{label}: the groups file has a header but no rows; add one line per "
-                        "name with its group")
+        raise DataError(
+            f"{label}: the groups file has a header but no rows; add one line per "
+            "name with its group"
+        )
     mapping: dict[str, str] = {}
     first: dict[str, int] = {}
     for line, fields in body:
         if len(fields) != len(header):
-            raise DataError(f"{label}: line {line} has {len(fields)} field(s) but the header has "
-                            f"{len(header)}; every line needs one field per column")
+            raise DataError(
+                f"{label}: line {line} has {len(fields)} field(s) but the header has "
+                f"{len(header)}; every line needs one field per column"
+            )
         name, group = fields[at["name_column"]], fields[at["group_column"]]
         if not name:
-            raise DataError(f"{label}: line {line}: the name in column {spec.name_column!r} is "
-                            "blank; give every row a name")
+            raise DataError(
+                f"{label}: line {line}: the name in column {spec.name_column!r} is "
+                "blank; give every row a name"
+            )
         if not group:
-            raise DataError(f"{label}: line {line}: {name!r} has a blank group label in column "
-                            f"{spec.group_column!r}; give every name a group")
+            raise DataError(
+                f"{label}: line {line}: {name!r} has a blank group label in column "
+                f"{spec.group_column!r}; give every name a group"
+            )
         if name in mapping and mapping[name] != group:
-            raise DataError(f"{label}: {name!r} is in group {mapping[name]!r} on line "
-                            f"{first[name]} and in group {group!r} on line {line}; a name "
-                            "belongs to one group")
+            raise DataError(
+                f"{label}: {name!r} is in group {mapping[name]!r} on line "
+                f"{first[name]} and in group {group!r} on line {line}; a name "
+                "belongs to one group"
+            )
         if name not in mapping:
             mapping[name], first[name] = group, line
     return mapping
@@ -84,16 +98,21 @@ def _read_rows(path: Path, label: str) -> list[tuple[int, list[str]]]:
 
 def _check_header(header: list[str], label: str) -> None:
     if len(header) < 2:
-        raise DataError(f"{label}: the header has {len(header)} column(s); a groups file needs "
-                        "at least two: the names and their groups")
+        raise DataError(
+            f"{label}: the header has {len(header)} column(s); a groups file needs "
+            "at least two: the names and their groups"
+        )
     blank = [i + 1 for i, name in enumerate(header) if not name]
     if blank:
-        raise DataError(f"{label}: column {blank[0]} of the header has no name; give every "
-                        "column a name")
+        raise DataError(
+            f"{label}: column {blank[0]} of the header has no name; give every column a name"
+        )
     twice = sorted({name for name in header if header.count(name) > 1})
     if twice:
-        raise DataError(f"{label}: column name {twice[0]!r} appears more than once in the "
-                        "header; column names must be unique")
+        raise DataError(
+            f"{label}: column name {twice[0]!r} appears more than once in the "
+            "header; column names must be unique"
+        )
 
 
 def _hint(column: str, header: list[str]) -> str:

@@ -69,16 +69,22 @@ def read_holdings(path: Path, *, label: str | None = None) -> CurrentHoldings:
     label = str(path) if label is None else label
     rows = _read_rows(path, label)
     if not rows:
-        raise DataError(f"{label}: the holdings file is empty; expected a header line "
-                        "(such as name,weight), then one line per name held")
+        raise DataError(
+            f"{label}: the holdings file is empty; expected a header line "
+            "(such as name,weight), then one line per name held"
+        )
     (header_line, header), body = rows[0], rows[1:]
     _check_width(header_line, header, label)
     if _NUMBER.fullmatch(header[1]):
-        raise DataError(f"{label}: line {header_line}: the first line ({','.join(header)}) looks "
-                        "like data, not a header; add a header line such as name,weight")
+        raise DataError(
+            f"{label}: line {header_line}: the first line ({','.join(header)}) looks "
+            "like data, not a header; add a header line such as name,weight"
+        )
     if not body:
-        raise DataError(f"{label}: the holdings file has a header but no rows; add one line per "
-                        f"name held (a portfolio all in cash is one row: {CASH_ROW},1)")
+        raise DataError(
+            f"{label}: the holdings file has a header but no rows; add one line per "
+            f"name held (a portfolio all in cash is one row: {CASH_ROW},1)"
+        )
     names: list[str] = []
     weights: list[float] = []
     first: dict[str, int] = {}
@@ -89,8 +95,10 @@ def read_holdings(path: Path, *, label: str | None = None) -> CurrentHoldings:
         if not name:
             raise DataError(f"{label}: line {line}: the name is blank; give every row a name")
         if name in first:
-            raise DataError(f"{label}: {name!r} appears twice (lines {first[name]} and {line}); "
-                            "give each name one row")
+            raise DataError(
+                f"{label}: {name!r} appears twice (lines {first[name]} and {line}); "
+                "give each name one row"
+            )
         first[name] = line
         weight = _weight(text, name, line, label)
         if name == CASH_ROW:
@@ -101,9 +109,11 @@ def read_holdings(path: Path, *, label: str | None = None) -> CurrentHoldings:
     values = np.array(weights, dtype=np.float64)
     gross = float(np.abs(values).sum())
     if gross > PERCENT_SUSPECT:
-        raise DataError(f"{label}: the weights add up to {gross:g} in absolute value; weights "
-                        "must be decimals (0.05 = 5 %), and these look like percentages; divide "
-                        "them by 100")
+        raise DataError(
+            f"{label}: the weights add up to {gross:g} in absolute value; weights "
+            "must be decimals (0.05 = 5 %), and these look like percentages; divide "
+            "them by 100"
+        )
     return CurrentHoldings(names=tuple(names), weights=values, cash=cash)
 
 
@@ -113,8 +123,10 @@ def _read_rows(path: Path, label: str) -> list[tuple[int, list[str]]]:
 
 def _check_width(line: int, fields: list[str], label: str) -> None:
     if len(fields) != 2:
-        raise DataError(f"{label}: line {line} has {len(fields)} field(s); a holdings file has "
-                        "exactly two columns: the name, then its weight")
+        raise DataError(
+            f"{label}: line {line} has {len(fields)} field(s); a holdings file has "
+            "exactly two columns: the name, then its weight"
+        )
 
 
 def _weight(text: str, name: str, line: int, label: str) -> float:
@@ -124,8 +136,11 @@ def _weight(text: str, name: str, line: int, label: str) -> float:
     if _NON_FINITE.fullmatch(text):
         raise DataError(f"{where} is {text!r}, not a finite number; write the weight held")
     if not _NUMBER.fullmatch(text):
-        hint = (" (weights are decimals: write 0.05 for 5 %)" if text.endswith("%")
-                else "; write a plain number with '.' as the decimal separator")
+        hint = (
+            " (weights are decimals: write 0.05 for 5 %)"
+            if text.endswith("%")
+            else "; write a plain number with '.' as the decimal separator"
+        )
         raise DataError(f"{where} is {text!r}, not a number{hint}")
     value = float(text)
     if not math.isfinite(value):  # such as 1e999

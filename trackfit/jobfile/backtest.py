@@ -40,12 +40,16 @@ def parse_backtest(r: Reader, value: Any, window: WindowSpec) -> BacktestSpec | 
     every = r.choice("backtest.every", s.get("every"), EVERY, BacktestSpec.every)
     periods = r.integer("backtest.periods", s.get("periods"), 1, None)
     if every == "periods" and periods is None:
-        raise r.error("'backtest.periods' is required with 'backtest.every: periods': the number "
-                      "of rows between rebalances, such as 21")
+        raise r.error(
+            "'backtest.periods' is required with 'backtest.every: periods': the number "
+            "of rows between rebalances, such as 21"
+        )
     if every != "periods" and periods is not None:
-        raise r.error(f"'backtest.periods' applies only with 'backtest.every: periods', but "
-                      f"'backtest.every' is {every!r}; remove 'backtest.periods' or set "
-                      "'backtest.every: periods'")
+        raise r.error(
+            f"'backtest.periods' applies only with 'backtest.every: periods', but "
+            f"'backtest.every' is {every!r}; remove 'backtest.periods' or set "
+            "'backtest.every: periods'"
+        )
     start = r.day("backtest.start", s.get("start"))
     end = r.day("backtest.end", s.get("end"))
     if start is not None and end is not None and start > end:
@@ -62,18 +66,28 @@ def parse_backtest(r: Reader, value: Any, window: WindowSpec) -> BacktestSpec | 
         mode=r.choice("backtest.mode", s.get("mode"), MODES, BacktestSpec.mode),
         cost_bps=flat,
         cost_bps_names=names,
-        memory_mb=(BacktestSpec.memory_mb if s.get("memory_mb") is None
-                   else r.number("backtest.memory_mb", s["memory_mb"], 0.0, math.inf,
-                                 "a number of MiB >= 0, such as 1024 (0: never share)")),
+        memory_mb=(
+            BacktestSpec.memory_mb
+            if s.get("memory_mb") is None
+            else r.number(
+                "backtest.memory_mb",
+                s["memory_mb"],
+                0.0,
+                math.inf,
+                "a number of MiB >= 0, such as 1024 (0: never share)",
+            )
+        ),
     )
 
 
 def check_rolling(r: Reader, kind: str, window: WindowSpec) -> None:
     """A rolling backtest window is ``window.lookback`` rows long, so that key must be set."""
     if kind == "rolling" and window.lookback is None:
-        raise r.error("'backtest.window' is 'rolling' (the default), which fits on the last "
-                      "'window.lookback' rows at each rebalance date, but 'window.lookback' is "
-                      "not set; set 'window.lookback' or write 'backtest.window: expanding'")
+        raise r.error(
+            "'backtest.window' is 'rolling' (the default), which fits on the last "
+            "'window.lookback' rows at each rebalance date, but 'window.lookback' is "
+            "not set; set 'window.lookback' or write 'backtest.window: expanding'"
+        )
 
 
 def _costs(r: Reader, value: Any) -> tuple[float, tuple[tuple[str, float], ...]]:
@@ -84,11 +98,14 @@ def _costs(r: Reader, value: Any) -> tuple[float, tuple[tuple[str, float], ...]]
         return r.number("backtest.cost_bps", value, 0.0, MAX_COST_BPS, must), ()
     named = r.labelled("backtest.cost_bps", value, "constituent name")
     if DEFAULT_COST not in named:
-        raise r.error(f"'backtest.cost_bps' is a mapping from names to basis points but has no "
-                      f"'{DEFAULT_COST}' entry; add '{DEFAULT_COST}: <bps>' for every name not "
-                      "listed")
-    flat = r.number(f"backtest.cost_bps.{DEFAULT_COST}", named[DEFAULT_COST], 0.0,
-                    MAX_COST_BPS, must)
+        raise r.error(
+            f"'backtest.cost_bps' is a mapping from names to basis points but has no "
+            f"'{DEFAULT_COST}' entry; add '{DEFAULT_COST}: <bps>' for every name not "
+            "listed"
+        )
+    flat = r.number(
+        f"backtest.cost_bps.{DEFAULT_COST}", named[DEFAULT_COST], 0.0, MAX_COST_BPS, must
+    )
     names = tuple(
         (name, r.number(f"backtest.cost_bps.{name}", bps, 0.0, MAX_COST_BPS, must))
         for name, bps in named.items()

@@ -26,7 +26,8 @@ def yaml_kind(value: Any) -> str:
     if isinstance(value, (datetime, date)):
         return "date"
     return {int: "number", float: "number", str: "string", list: "list", dict: "mapping"}.get(
-        type(value), type(value).__name__)
+        type(value), type(value).__name__
+    )
 
 
 def got(value: Any, want: str = "") -> str:
@@ -74,8 +75,9 @@ class Reader:
     def error(self, message: str) -> JobError:
         return JobError(f"{self.src}: {message}")
 
-    def bad(self, key: str, must: str, value: Any, want: str = "",
-            suggest: str | None = None) -> JobError:
+    def bad(
+        self, key: str, must: str, value: Any, want: str = "", suggest: str | None = None
+    ) -> JobError:
         """The one template: "'<key>' must be <must>; got <value>." (plus a suggestion)."""
         end = f"; did you mean '{suggest}'?" if suggest else "."
         return self.error(f"'{key}' must be {must}; got {got(value, want)}{end}")
@@ -100,20 +102,27 @@ class Reader:
             raise self.bad(key, f"a mapping from {what} to {{min, max}} bounds", value)
         for label in value:
             if not isinstance(label, str) or not label.strip():
-                raise self.error(f"every {what} under '{key}' must be a non-empty string; "
-                                 f"got {got(label, 'text')}.")
+                raise self.error(
+                    f"every {what} under '{key}' must be a non-empty string; "
+                    f"got {got(label, 'text')}."
+                )
         return value
 
-    def unknown(self, prefix: str, name: Any, allowed: tuple[str, ...],
-                what: str = "key") -> JobError:
+    def unknown(
+        self, prefix: str, name: Any, allowed: tuple[str, ...], what: str = "key"
+    ) -> JobError:
         full = f"{prefix}.{name}" if prefix else str(name)
         message = f"unknown {what} '{full}'"
         if not isinstance(name, str):
-            return self.error(f"{message} (YAML read it as a {yaml_kind(name)}); "
-                              f"allowed: {', '.join(allowed)}")
+            return self.error(
+                f"{message} (YAML read it as a {yaml_kind(name)}); allowed: {', '.join(allowed)}"
+            )
         close = closest(name, allowed)
-        return self.error(f"{message}; did you mean '{close}'?" if close else
-                          f"{message}; allowed: {', '.join(allowed)}")
+        return self.error(
+            f"{message}; did you mean '{close}'?"
+            if close
+            else f"{message}; allowed: {', '.join(allowed)}"
+        )
 
     def text(self, key: str, value: Any, default: str | None = None) -> str | None:
         if value is None:
@@ -126,8 +135,12 @@ class Reader:
         if value is None:
             return default
         if not isinstance(value, str) or value not in allowed:
-            raise self.bad(key, "one of " + ", ".join(f"'{a}'" for a in allowed), value,
-                           suggest=closest(value, allowed))
+            raise self.bad(
+                key,
+                "one of " + ", ".join(f"'{a}'" for a in allowed),
+                value,
+                suggest=closest(value, allowed),
+            )
         return value
 
     def boolean(self, key: str, value: Any, default: bool) -> bool:
@@ -137,8 +150,9 @@ class Reader:
             raise self.bad(key, "true or false", value)
         return value
 
-    def integer(self, key: str, value: Any, minimum: int, default: int | None,
-                must: str | None = None) -> int | None:
+    def integer(
+        self, key: str, value: Any, minimum: int, default: int | None, must: str | None = None
+    ) -> int | None:
         """An int >= ``minimum``; bools, floats such as 5.0 and strings such as '5' are rejected."""
         if value is None:
             return default
@@ -146,8 +160,14 @@ class Reader:
             raise self.bad(key, must or f"an integer >= {minimum}", value, "number")
         return value
 
-    def number(self, key: str, value: Any, minimum: float = -math.inf,
-               maximum: float = math.inf, must: str | None = None) -> float:
+    def number(
+        self,
+        key: str,
+        value: Any,
+        minimum: float = -math.inf,
+        maximum: float = math.inf,
+        must: str | None = None,
+    ) -> float:
         """A finite number in ``[minimum, maximum]`` (bools and strings rejected)."""
         if must is None:
             if math.isinf(minimum) and math.isinf(maximum):
@@ -156,8 +176,12 @@ class Reader:
                 must = f"a number >= {minimum:g}"
             else:
                 must = f"a number from {minimum:g} to {maximum:g}"
-        if (isinstance(value, bool) or not isinstance(value, (int, float))
-                or not math.isfinite(value) or not minimum <= value <= maximum):
+        if (
+            isinstance(value, bool)
+            or not isinstance(value, (int, float))
+            or not math.isfinite(value)
+            or not minimum <= value <= maximum
+        ):
             raise self.bad(key, must, value, "number")
         return float(value)
 
@@ -170,8 +194,9 @@ class Reader:
     def path(self, key: str, value: Any, default: str | None = None) -> Path:
         value = self.text(key, value, default)
         if value is None:
-            raise self.error(f"'{key}' is required: the path of a file, relative to the job file's "
-                             "folder")
+            raise self.error(
+                f"'{key}' is required: the path of a file, relative to the job file's folder"
+            )
         given = Path(value).expanduser()
         return (given if given.is_absolute() else self.base / given).resolve()
 

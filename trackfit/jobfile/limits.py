@@ -28,8 +28,7 @@ BETA_LIMIT = 10.0
 _GROUP_KEYS = ("file", "name_column", "group_column", "each", "bounds")
 _HOLDINGS_KEYS = ("file", "turnover_penalty", "max_turnover")
 _SIDES = ("min", "max")
-_IN_RANGE = (f"a number from {-BOUND_LIMIT:g} to {BOUND_LIMIT:g}, in decimal units "
-             "(0.05 = 5 %)")
+_IN_RANGE = f"a number from {-BOUND_LIMIT:g} to {BOUND_LIMIT:g}, in decimal units (0.05 = 5 %)"
 
 
 def parse_limits(r: Reader, value: Any) -> LimitsSpec:
@@ -48,12 +47,22 @@ def parse_limits(r: Reader, value: Any) -> LimitsSpec:
         names=names,
         groups=_groups(r, s.get("groups")),
         max_names=r.integer("limits.max_names", s.get("max_names"), 1, None),
-        min_position=(None if s.get("min_position") is None
-                      else r.fraction("limits.min_position", s["min_position"])),
-        beta=(None if s.get("beta") is None
-              else _bounds(r, "limits.beta", s["beta"], BETA_LIMIT,
-                           f"a number from {-BETA_LIMIT:g} to {BETA_LIMIT:g} (1 = moves with "
-                           "the benchmark)")),
+        min_position=(
+            None
+            if s.get("min_position") is None
+            else r.fraction("limits.min_position", s["min_position"])
+        ),
+        beta=(
+            None
+            if s.get("beta") is None
+            else _bounds(
+                r,
+                "limits.beta",
+                s["beta"],
+                BETA_LIMIT,
+                f"a number from {-BETA_LIMIT:g} to {BETA_LIMIT:g} (1 = moves with the benchmark)",
+            )
+        ),
     )
 
 
@@ -66,29 +75,34 @@ def parse_holdings(r: Reader, value: Any) -> HoldingsSpec | None:
     cap = s.get("max_turnover")
     return HoldingsSpec(
         file=r.path("holdings.file", s.get("file")),
-        turnover_penalty=(HoldingsSpec.turnover_penalty if penalty is None
-                          else r.number("holdings.turnover_penalty", penalty, 0.0)),
+        turnover_penalty=(
+            HoldingsSpec.turnover_penalty
+            if penalty is None
+            else r.number("holdings.turnover_penalty", penalty, 0.0)
+        ),
         max_turnover=None if cap is None else r.number("holdings.max_turnover", cap, 0.0, 1.0),
     )
 
 
-def _bounds(r: Reader, key: str, value: Any, limit: float = BOUND_LIMIT,
-            in_range: str = _IN_RANGE) -> Bounds:
+def _bounds(
+    r: Reader, key: str, value: Any, limit: float = BOUND_LIMIT, in_range: str = _IN_RANGE
+) -> Bounds:
     """A ``{min, max}`` mapping with at least one side, each in range, ``min <= max``."""
     must = "a mapping with 'min', 'max' or both, such as {min: 0.0, max: 0.1}"
     if not isinstance(value, dict):
         raise r.bad(key, must, value)
     s = r.section(key, value, _SIDES)
     low, high = (
-        None if s.get(side) is None
-        else r.number(f"{key}.{side}", s[side], -limit, limit, in_range)
+        None if s.get(side) is None else r.number(f"{key}.{side}", s[side], -limit, limit, in_range)
         for side in _SIDES
     )
     if low is None and high is None:
         raise r.bad(key, must, value)
     if low is not None and high is not None and low > high:
-        raise r.error(f"'{key}.min' ({low:g}) is above '{key}.max' ({high:g}); the minimum must "
-                      "not exceed the maximum")
+        raise r.error(
+            f"'{key}.min' ({low:g}) is above '{key}.max' ({high:g}); the minimum must "
+            "not exceed the maximum"
+        )
     return Bounds(low, high)
 
 
@@ -98,13 +112,17 @@ def _override(r: Reader, key: str, value: Any, weight: Bounds | None) -> Bounds:
     if weight is None:
         return own
     if own.min is None and weight.min is not None and weight.min > own.max:
-        raise r.error(f"'{key}.max' ({own.max:g}) is below 'limits.weight.min' ({weight.min:g}), "
-                      f"which applies to this name because '{key}' gives no 'min'; give '{key}' "
-                      "a 'min' too, or lower 'limits.weight.min'")
+        raise r.error(
+            f"'{key}.max' ({own.max:g}) is below 'limits.weight.min' ({weight.min:g}), "
+            f"which applies to this name because '{key}' gives no 'min'; give '{key}' "
+            "a 'min' too, or lower 'limits.weight.min'"
+        )
     if own.max is None and weight.max is not None and own.min > weight.max:
-        raise r.error(f"'{key}.min' ({own.min:g}) is above 'limits.weight.max' ({weight.max:g}), "
-                      f"which applies to this name because '{key}' gives no 'max'; give '{key}' "
-                      "a 'max' too, or raise 'limits.weight.max'")
+        raise r.error(
+            f"'{key}.min' ({own.min:g}) is above 'limits.weight.max' ({weight.max:g}), "
+            f"which applies to this name because '{key}' gives no 'max'; give '{key}' "
+            "a 'max' too, or raise 'limits.weight.max'"
+        )
     return own
 
 
@@ -115,12 +133,18 @@ def _budget(r: Reader, value: Any) -> tuple[float, float] | None:
     if not isinstance(value, dict):
         if value == FULLY_INVESTED:
             return (1.0, 1.0)
-        raise r.bad("limits.budget", f"'{FULLY_INVESTED}' or a mapping with 'min', 'max' or "
-                    "both (bounds on the sum of weights)", value,
-                    suggest=closest(value, (FULLY_INVESTED,)))
+        raise r.bad(
+            "limits.budget",
+            f"'{FULLY_INVESTED}' or a mapping with 'min', 'max' or "
+            "both (bounds on the sum of weights)",
+            value,
+            suggest=closest(value, (FULLY_INVESTED,)),
+        )
     bounds = _bounds(r, "limits.budget", value)
-    return (-math.inf if bounds.min is None else bounds.min,
-            math.inf if bounds.max is None else bounds.max)
+    return (
+        -math.inf if bounds.min is None else bounds.min,
+        math.inf if bounds.max is None else bounds.max,
+    )
 
 
 def _groups(r: Reader, value: Any) -> GroupsSpec | None:
@@ -132,15 +156,20 @@ def _groups(r: Reader, value: Any) -> GroupsSpec | None:
     name_column = r.text(f"{key}.name_column", s.get("name_column"), GroupsSpec.name_column)
     group_column = r.text(f"{key}.group_column", s.get("group_column"), GroupsSpec.group_column)
     if name_column == group_column:
-        raise r.error(f"'{key}.name_column' and '{key}.group_column' are both {name_column!r}; "
-                      "the names and the groups must come from different columns")
+        raise r.error(
+            f"'{key}.name_column' and '{key}.group_column' are both {name_column!r}; "
+            "the names and the groups must come from different columns"
+        )
     each = None if s.get("each") is None else _bounds(r, f"{key}.each", s["each"])
     bounds = tuple(
         (label, _bounds(r, f"{key}.bounds.{label}", b))
         for label, b in r.labelled(f"{key}.bounds", s.get("bounds"), "group label").items()
     )
     if each is None and not bounds:
-        raise r.error(f"'{key}' sets no bounds: give '{key}.each' (bounds for every group), "
-                      f"'{key}.bounds' (bounds per group) or both, or remove '{key}'")
-    return GroupsSpec(file=file, name_column=name_column, group_column=group_column,
-                      each=each, bounds=bounds)
+        raise r.error(
+            f"'{key}' sets no bounds: give '{key}.each' (bounds for every group), "
+            f"'{key}.bounds' (bounds per group) or both, or remove '{key}'"
+        )
+    return GroupsSpec(
+        file=file, name_column=name_column, group_column=group_column, each=each, bounds=bounds
+    )

@@ -35,14 +35,18 @@ def read_yaml(path: Path, src: str, check_nodes: NodeCheck) -> dict:
     except FileNotFoundError:
         raise JobError(f"{src}: job file not found; check the path") from None
     except IsADirectoryError:
-        raise JobError(f"{src}: is a folder, not a job file; give the path of the YAML "
-                       "file") from None
+        raise JobError(
+            f"{src}: is a folder, not a job file; give the path of the YAML file"
+        ) from None
     except UnicodeDecodeError as exc:
-        raise JobError(f"{src}: job file is not UTF-8 text ({exc.reason} at byte offset "
-                       f"{exc.start}); save it as UTF-8") from None
+        raise JobError(
+            f"{src}: job file is not UTF-8 text ({exc.reason} at byte offset "
+            f"{exc.start}); save it as UTF-8"
+        ) from None
     except OSError as exc:
-        raise JobError(f"{src}: cannot read the job file ({exc.strerror or exc}); "
-                       "check its permissions") from None
+        raise JobError(
+            f"{src}: cannot read the job file ({exc.strerror or exc}); check its permissions"
+        ) from None
     try:
         # Composing first gives line numbers for problems safe_load would hide or lose.
         check_nodes(yaml.compose(text, Loader=yaml.SafeLoader), src)
@@ -50,14 +54,19 @@ def read_yaml(path: Path, src: str, check_nodes: NodeCheck) -> dict:
     except yaml.YAMLError as exc:
         raise JobError(f"{src}: {_describe_yaml_error(exc)}; fix the YAML syntax") from None
     except (ValueError, TypeError, AttributeError) as exc:  # a value YAML cannot construct
-        raise JobError(f"{src}: a value cannot be read ({exc}); check the dates and any value "
-                       "with an explicit YAML tag such as !!int") from None
+        raise JobError(
+            f"{src}: a value cannot be read ({exc}); check the dates and any value "
+            "with an explicit YAML tag such as !!int"
+        ) from None
     if raw is None:
-        raise JobError(f"{src}: job file is empty; it needs at least 'benchmark' and "
-                       "'constituents'")
+        raise JobError(
+            f"{src}: job file is empty; it needs at least 'benchmark' and 'constituents'"
+        )
     if not isinstance(raw, dict):
-        raise JobError(f"{src}: the top level must be a mapping of keys such as 'benchmark:' and "
-                       f"'constituents:'; got a {yaml_kind(raw)}")
+        raise JobError(
+            f"{src}: the top level must be a mapping of keys such as 'benchmark:' and "
+            f"'constituents:'; got a {yaml_kind(raw)}"
+        )
     return raw
 
 
@@ -84,8 +93,10 @@ def check_nodes(root: yaml.Node | None, src: str) -> None:
                 if isinstance(key, yaml.ScalarNode) and key.tag != "tag:yaml.org,2002:merge":
                     line = key.start_mark.line + 1
                     if (key.tag, key.value) in first:
-                        raise JobError(f"{src}: key '{key.value}' appears twice in one mapping "
-                                       f"(lines {first[key.tag, key.value]} and {line}); keep one")
+                        raise JobError(
+                            f"{src}: key '{key.value}' appears twice in one mapping "
+                            f"(lines {first[key.tag, key.value]} and {line}); keep one"
+                        )
                     first[key.tag, key.value] = line
                 stack.extend((key, value))
         elif isinstance(node, yaml.SequenceNode):
@@ -96,5 +107,7 @@ def check_nodes(root: yaml.Node | None, src: str) -> None:
             except (ValueError, AttributeError) as exc:  # AttributeError: '!!timestamp' on text
                 where = f"line {node.start_mark.line + 1}, column {node.start_mark.column + 1}"
                 reason = f" ({exc})" if isinstance(exc, ValueError) else ""
-                raise JobError(f"{src}: {node.value!r} at {where} is not a real date{reason}; "
-                               "write a calendar date as YYYY-MM-DD") from None
+                raise JobError(
+                    f"{src}: {node.value!r} at {where} is not a real date{reason}; "
+                    "write a calendar date as YYYY-MM-DD"
+                ) from None

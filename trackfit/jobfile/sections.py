@@ -30,13 +30,15 @@ RULES = ("min_error", "one_standard_error")
 def parse_benchmark(r: Reader, value: Any) -> tuple[SeriesRef, str]:
     r.required("benchmark", value, "a mapping with 'file' and optionally 'column'")
     s = r.section("benchmark", value, ("file", "column"))
-    ref = SeriesRef(r.path("benchmark.file", s.get("file")),
-                    r.text("benchmark.column", s.get("column")))
+    ref = SeriesRef(
+        r.path("benchmark.file", s.get("file")), r.text("benchmark.column", s.get("column"))
+    )
     return ref, s["file"]
 
 
-def parse_constituents(r: Reader, value: Any, bench: SeriesRef,
-                       bench_file: str) -> tuple[ConstituentSource, ...]:
+def parse_constituents(
+    r: Reader, value: Any, bench: SeriesRef, bench_file: str
+) -> tuple[ConstituentSource, ...]:
     what = "a mapping with 'file' and 'columns', or a non-empty list of such mappings"
     r.required("constituents", value, what)
     if isinstance(value, dict):
@@ -49,20 +51,25 @@ def parse_constituents(r: Reader, value: Any, bench: SeriesRef,
     taken: dict[tuple[Path, str | None], str] = {}  # (file, column; None = all) -> key path
     for key, item in entries:
         s = r.section(key, item, ("file", "columns"))
-        source = ConstituentSource(r.path(f"{key}.file", s.get("file")),
-                                   _columns(r, f"{key}.columns", s.get("columns")))
+        source = ConstituentSource(
+            r.path(f"{key}.file", s.get("file")), _columns(r, f"{key}.columns", s.get("columns"))
+        )
         shown = s["file"]
         if source.file == bench.file:
             _check_benchmark_overlap(r, key, source, shown, bench, bench_file)
         for column in source.columns or (None,):
             if (source.file, column) in taken and column is not None:
-                raise r.error(f"column {column!r} of {shown!r} is listed in both "
-                              f"'{taken[source.file, column]}.columns' and '{key}.columns'; "
-                              "list each constituent once")
+                raise r.error(
+                    f"column {column!r} of {shown!r} is listed in both "
+                    f"'{taken[source.file, column]}.columns' and '{key}.columns'; "
+                    "list each constituent once"
+                )
             other = _clash(taken, source.file, column)
             if other is not None:
-                raise r.error(f"'{other}' and '{key}' both take columns of {shown!r} and one takes "
-                              "them all ('columns: all'); list each constituent once")
+                raise r.error(
+                    f"'{other}' and '{key}' both take columns of {shown!r} and one takes "
+                    "them all ('columns: all'); list each constituent once"
+                )
             taken[source.file, column] = key
         sources.append(source)
     return tuple(sources)
@@ -76,18 +83,25 @@ def _clash(taken: dict[tuple[Path, str | None], str], file: Path, column: str | 
     return None
 
 
-def _check_benchmark_overlap(r: Reader, key: str, source: ConstituentSource, shown: str,
-                             bench: SeriesRef, bench_file: str) -> None:
+def _check_benchmark_overlap(
+    r: Reader, key: str, source: ConstituentSource, shown: str, bench: SeriesRef, bench_file: str
+) -> None:
     if source.columns is None:
-        raise r.error(f"'{key}' takes every column of {shown!r} ('columns: all'), but that file "
-                      f"also holds the benchmark ('benchmark.file' is {bench_file!r}); list the "
-                      f"constituent columns in '{key}.columns'")
+        raise r.error(
+            f"'{key}' takes every column of {shown!r} ('columns: all'), but that file "
+            f"also holds the benchmark ('benchmark.file' is {bench_file!r}); list the "
+            f"constituent columns in '{key}.columns'"
+        )
     if bench.column is None:
-        raise r.error(f"'{key}' takes columns of {shown!r}, which also holds the benchmark, so the "
-                      "benchmark is not that file's only column; set 'benchmark.column'")
+        raise r.error(
+            f"'{key}' takes columns of {shown!r}, which also holds the benchmark, so the "
+            "benchmark is not that file's only column; set 'benchmark.column'"
+        )
     if bench.column in source.columns:
-        raise r.error(f"'{key}.columns' lists {bench.column!r}, the benchmark column of the same "
-                      "file; remove it from the constituents")
+        raise r.error(
+            f"'{key}.columns' lists {bench.column!r}, the benchmark column of the same "
+            "file; remove it from the constituents"
+        )
 
 
 def _columns(r: Reader, key: str, value: Any) -> tuple[str, ...] | None:
@@ -118,22 +132,31 @@ def parse_risk_free(r: Reader, value: Any) -> RiskFreeSpec | None:
 
 
 def parse_data(r: Reader, value: Any) -> DataSpec:
-    s = r.section("data", value, ("date_column", "date_format", "values", "returns_unit",
-                                  "missing", "periods_per_year"))
+    s = r.section(
+        "data",
+        value,
+        ("date_column", "date_format", "values", "returns_unit", "missing", "periods_per_year"),
+    )
     values = r.choice("data.values", s.get("values"), VALUES, DataSpec.values)
     if values == "prices" and s.get("returns_unit") is not None:
-        raise r.error("'data.returns_unit' applies only with 'data.values: returns', but "
-                      "'data.values' is 'prices'; remove 'data.returns_unit'")
+        raise r.error(
+            "'data.returns_unit' applies only with 'data.values: returns', but "
+            "'data.values' is 'prices'; remove 'data.returns_unit'"
+        )
     ppy = s.get("periods_per_year")
     return DataSpec(
         date_column=r.text("data.date_column", s.get("date_column"), DataSpec.date_column),
         date_format=_date_format(r, s.get("date_format")),
         values=values,
-        returns_unit=r.choice("data.returns_unit", s.get("returns_unit"), UNITS,
-                              DataSpec.returns_unit),
+        returns_unit=r.choice(
+            "data.returns_unit", s.get("returns_unit"), UNITS, DataSpec.returns_unit
+        ),
         missing=r.choice("data.missing", s.get("missing"), MISSING, DataSpec.missing),
-        periods_per_year=None if ppy == "auto" else r.integer(
-            "data.periods_per_year", ppy, 1, None, "'auto' or an integer >= 1 (252, 52, 12, 4)"),
+        periods_per_year=None
+        if ppy == "auto"
+        else r.integer(
+            "data.periods_per_year", ppy, 1, None, "'auto' or an integer >= 1 (252, 52, 12, 4)"
+        ),
     )
 
 
@@ -148,8 +171,11 @@ def _date_format(r: Reader, value: Any) -> str | None:
     except ValueError:
         ok = False
     if not ok:
-        raise r.bad("data.date_format", "a strptime format such as '%d/%m/%Y' (or null for "
-                    "YYYY-MM-DD)", value)
+        raise r.bad(
+            "data.date_format",
+            "a strptime format such as '%d/%m/%Y' (or null for YYYY-MM-DD)",
+            value,
+        )
     return fmt
 
 
@@ -159,11 +185,15 @@ def parse_window(r: Reader, value: Any) -> WindowSpec:
     lookback = r.integer("window.lookback", s.get("lookback"), 2, None)
     holdout = r.integer("window.holdout", s.get("holdout"), 0, None)
     if start is not None and lookback is not None:
-        raise r.error("'window.start' and 'window.lookback' cannot both be set; keep 'start' "
-                      "(first return date) or 'lookback' (rows ending at the as-of date)")
+        raise r.error(
+            "'window.start' and 'window.lookback' cannot both be set; keep 'start' "
+            "(first return date) or 'lookback' (rows ending at the as-of date)"
+        )
     if lookback is not None and holdout is not None and holdout >= lookback:
-        raise r.error(f"'window.holdout' ({holdout}) must be smaller than 'window.lookback' "
-                      f"({lookback}) so rows are left for choosing the penalty")
+        raise r.error(
+            f"'window.holdout' ({holdout}) must be smaller than 'window.lookback' "
+            f"({lookback}) so rows are left for choosing the penalty"
+        )
     return WindowSpec(start=start, lookback=lookback, holdout=holdout)
 
 
@@ -172,8 +202,9 @@ def parse_grid(r: Reader, value: Any) -> GridSpec:
     ratio = s.get("min_ratio")
     return GridSpec(
         count=r.integer("penalty_grid.count", s.get("count"), 2, GridSpec.count),
-        min_ratio=(GridSpec.min_ratio if ratio is None
-                   else r.fraction("penalty_grid.min_ratio", ratio)),
+        min_ratio=(
+            GridSpec.min_ratio if ratio is None else r.fraction("penalty_grid.min_ratio", ratio)
+        ),
     )
 
 
@@ -192,6 +223,7 @@ def parse_output(r: Reader, value: Any) -> OutputSpec:
     s = r.section("output", value, ("directory", "top_weights"))
     return OutputSpec(
         directory=r.path("output.directory", s.get("directory"), DEFAULT_OUTPUT_DIRECTORY),
-        top_weights=r.integer("output.top_weights", s.get("top_weights"), 1,
-                              OutputSpec.top_weights),
+        top_weights=r.integer(
+            "output.top_weights", s.get("top_weights"), 1, OutputSpec.top_weights
+        ),
     )

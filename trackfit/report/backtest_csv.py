@@ -5,11 +5,10 @@ from __future__ import annotations
 import csv
 import io
 
+from trackfit.outcomes.backtest import BacktestOutcome
 from trackfit.report.held import CASH_NAME
 from trackfit.report.numbers import fixed, iso_date
 from trackfit.report.weights_csv import WEIGHT_FORMAT
-from trackfit.outcomes.backtest import BacktestOutcome
-
 
 #: Fixed format of every return in returns.csv.
 RETURN_FORMAT = ".10f"

@@ -4,13 +4,12 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from trackfit.outcomes.backtest import BacktestOutcome
+from trackfit.report import plots
 from trackfit.report.backtest_csv import render_returns_csv, render_weights_history_csv
 from trackfit.report.backtest_json import render_backtest_json
 from trackfit.report.backtest_markdown import render_backtest_markdown
-from trackfit.report import plots
 from trackfit.report.files import atomic_write_bytes, atomic_write_text
-from trackfit.outcomes.backtest import BacktestOutcome
-
 
 #: The files a backtest writes, in the order they are listed on stdout.
 BACKTEST_FILES = ("weights_history.csv", "returns.csv", "report.md", "summary.json")

@@ -5,10 +5,9 @@ from __future__ import annotations
 from typing import Any
 
 import trackfit
+from trackfit.outcomes.backtest import BacktestOutcome
 from trackfit.report.caution import CAUTION
 from trackfit.report.summary_json import dump_json
-from trackfit.outcomes.backtest import BacktestOutcome
-
 
 
 def render_backtest_json(outcome: BacktestOutcome) -> str:
@@ -74,8 +73,14 @@ def render_backtest_json(outcome: BacktestOutcome) -> str:
             for i, (day, row, fit) in enumerate(zip(o.dates, r.rebalance, o.fits))
         ],
         "names": [
-            {"name": h.name, "rebalances": h.rebalances, "first": h.first, "last": h.last,
-             "mean_weight": h.mean_weight, "last_weight": h.last_weight}
+            {
+                "name": h.name,
+                "rebalances": h.rebalances,
+                "first": h.first,
+                "last": h.last,
+                "mean_weight": h.mean_weight,
+                "last_weight": h.last_weight,
+            }
             for h in o.names
         ],
         "notes": list(o.notes),

@@ -4,12 +4,11 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
+from trackfit.outcomes.backtest import BacktestOutcome
 from trackfit.report.caution import CAUTION
 from trackfit.report.markdown import figures_section
 from trackfit.report.numbers import fixed, iso_date, percent
 from trackfit.report.tables import inline, table
-from trackfit.outcomes.backtest import BacktestOutcome
-
 
 #: Section headings, in the order they appear.
 HEADINGS = (
@@ -28,7 +27,7 @@ _EVERY = {
 _MODES = {
     "buy_and_hold": "buy and hold: the weights drift with prices between rebalances",
     "constant_mix": "constant mix: the weights are reset to the target every period, free of "
-                    "cost; costs are charged only at the rebalances",
+    "cost; costs are charged only at the rebalances",
 }
 
 
@@ -61,17 +60,20 @@ def _schedule(o: BacktestOutcome) -> list[str]:
     else:
         window = f"rolling: the last {o.lookback} rows up to and including the rebalance date"
     if spec.cost_bps_names:
-        costs = (f"{fixed(spec.cost_bps, 'g')} bps per unit traded, except "
-                 + ", ".join(f"{n} {fixed(b, 'g')} bps" for n, b in spec.cost_bps_names))
+        costs = f"{fixed(spec.cost_bps, 'g')} bps per unit traded, except " + ", ".join(
+            f"{n} {fixed(b, 'g')} bps" for n, b in spec.cost_bps_names
+        )
     else:
         costs = f"{fixed(spec.cost_bps, 'g')} bps per unit of value traded, on each side"
     coupling = (
         "each rebalance trades from the previous one's drifted holdings, under the job's "
         "turnover limits (the first from the holdings file)"
-        if o.coupled else "each rebalance is fitted on its own; the first buys from cash"
+        if o.coupled
+        else "each rebalance is fitted on its own; the first buys from cash"
     )
     return [
-        HEADINGS[0], "",
+        HEADINGS[0],
+        "",
         f"- Model held: {o.model}, fitted at every rebalance date on data up to that date only, "
         "with its penalty chosen by time-ordered cross-validation on the same rows; no holdout.",
         f"- Rebalances: {len(r.rebalance)}, {every}, from {iso_date(o.dates[0])} to "
@@ -108,33 +110,56 @@ def _rebalances(o: BacktestOutcome) -> list[str]:
     r = o.result
     rows = []
     for i, (day, row, fit) in enumerate(zip(o.dates, r.rebalance, o.fits)):
-        rows.append((
-            iso_date(day),
-            int(row) - fit.window_start + 1,
-            int(r.names_held[i]),
-            int(o.added[i]),
-            int(o.dropped[i]),
-            percent(r.turnover[i]),
-            percent(r.costs[i], 4),
-            fixed(r.alphas[i], ".4g"),
-            fixed(r.l1_ratios[i], ".2f"),
-            fixed(r.kkt[i], ".1e"),
-        ))
-    headers = ("Date", "Rows", "Names", "Added", "Dropped", "Turnover", "Cost", "alpha",
-               "l1_ratio", "KKT")
-    return [HEADINGS[2], "",
-            "Turnover is one-way, from the holdings just before the rebalance (the first from "
-            "cash); alpha is in standardized units.", ""] + table(
-        headers, rows, (False,) + (True,) * 9)
+        rows.append(
+            (
+                iso_date(day),
+                int(row) - fit.window_start + 1,
+                int(r.names_held[i]),
+                int(o.added[i]),
+                int(o.dropped[i]),
+                percent(r.turnover[i]),
+                percent(r.costs[i], 4),
+                fixed(r.alphas[i], ".4g"),
+                fixed(r.l1_ratios[i], ".2f"),
+                fixed(r.kkt[i], ".1e"),
+            )
+        )
+    headers = (
+        "Date",
+        "Rows",
+        "Names",
+        "Added",
+        "Dropped",
+        "Turnover",
+        "Cost",
+        "alpha",
+        "l1_ratio",
+        "KKT",
+    )
+    return [
+        HEADINGS[2],
+        "",
+        "Turnover is one-way, from the holdings just before the rebalance (the first from "
+        "cash); alpha is in standardized units.",
+        "",
+    ] + table(headers, rows, (False,) + (True,) * 9)
 
 
 def _names(o: BacktestOutcome) -> list[str]:
     if not o.names:
         return [HEADINGS[3], "", "No name was held at any rebalance."]
-    rows = [(h.name, h.rebalances, iso_date(h.first), iso_date(h.last), percent(h.mean_weight),
-             percent(h.last_weight)) for h in o.names]
-    headers = ("Name", "Rebalances held", "First held", "Last held", "Mean weight",
-               "Last weight")
+    rows = [
+        (
+            h.name,
+            h.rebalances,
+            iso_date(h.first),
+            iso_date(h.last),
+            percent(h.mean_weight),
+            percent(h.last_weight),
+        )
+        for h in o.names
+    ]
+    headers = ("Name", "Rebalances held", "First held", "Last held", "Mean weight", "Last weight")
     return [HEADINGS[3], ""] + table(headers, rows, (False, True, False, False, True, True))
 
 

@@ -9,9 +9,8 @@ import csv
 import io
 import json
 
-from trackfit.report.numbers import fixed, json_number
 from trackfit.outcomes.diff import WeightsDiff
-
+from trackfit.report.numbers import fixed, json_number
 
 #: Weights and changes in CSV and JSON: as many decimals as weights.csv.
 DIFF_FORMAT = ".10f"
@@ -47,8 +46,9 @@ def render_diff_text(d: WeightsDiff) -> str:
     for t in moves:
         change = fixed(t.change, "+.6f")
         change = change if change[0] in "+-" else "+" + change  # rounded to zero
-        rows.append((t.name, fixed(t.current, ".6f"), fixed(t.target, ".6f"), change,
-                     _ACTIONS[t.action]))
+        rows.append(
+            (t.name, fixed(t.current, ".6f"), fixed(t.target, ".6f"), change, _ACTIONS[t.action])
+        )
     width = [max(len(r[i]) for r in rows) for i in range(5)]
     lines.append("")
     for r in rows:
@@ -63,18 +63,25 @@ def render_diff_csv(d: WeightsDiff) -> str:
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(["name", "old", "new", "change", "action"])
     for t in d.moves:
-        writer.writerow([t.name, fixed(t.current, DIFF_FORMAT), fixed(t.target, DIFF_FORMAT),
-                         fixed(t.change, DIFF_FORMAT), _ACTIONS[t.action]])
+        writer.writerow(
+            [
+                t.name,
+                fixed(t.current, DIFF_FORMAT),
+                fixed(t.target, DIFF_FORMAT),
+                fixed(t.change, DIFF_FORMAT),
+                _ACTIONS[t.action],
+            ]
+        )
     return buffer.getvalue()
 
 
 def render_diff_json(d: WeightsDiff) -> str:
     """The summary and the changed names as JSON (12 significant digits), ending in ``"\\n"``."""
+
     def num(x: float | None) -> float | None:
         return None if x is None else json_number(x)
 
-    cash_change = (None if d.old_cash is None or d.new_cash is None
-                   else num(d.new_cash - d.old_cash))
+    cash_change = None if d.old_cash is None or d.new_cash is None else num(d.new_cash - d.old_cash)
     tree = {
         "old": d.old,
         "new": d.new,
@@ -83,8 +90,13 @@ def render_diff_json(d: WeightsDiff) -> str:
         "one_way_turnover": num(d.trades.one_way_turnover),
         "counts": _counts(d),
         "changes": [
-            {"name": t.name, "old": num(t.current), "new": num(t.target),
-             "change": num(t.change), "action": _ACTIONS[t.action]}
+            {
+                "name": t.name,
+                "old": num(t.current),
+                "new": num(t.target),
+                "change": num(t.change),
+                "action": _ACTIONS[t.action],
+            }
             for t in d.moves
         ],
     }

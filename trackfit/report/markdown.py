@@ -84,7 +84,13 @@ def render_markdown(
     lines = [f"# {inline(job.name)}: tracking weights as of {outcome.as_of.isoformat()}", ""]
     lines += [f"> {inline(CAUTION)}", ""]
     sections = (
-        _what_was_done, _held, mandate_section, _tracking, _penalty_choice, _accuracy, _warnings
+        _what_was_done,
+        _held,
+        mandate_section,
+        _tracking,
+        _penalty_choice,
+        _accuracy,
+        _warnings,
     )
     for section in sections:
         lines += section(outcome)

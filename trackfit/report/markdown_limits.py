@@ -95,7 +95,7 @@ def _number(value: float) -> str:
 #: How a linear limit's quantity is measured, after its words in "Limits in force".
 _LINEAR_NOTES = {
     "beta": " (cov(portfolio, benchmark) / var(benchmark), centered, over the rows each fit "
-            "uses: a fold's training rows, the rows before the holdout, the whole window)",
+    "uses: a fold's training rows, the rows before the holdout, the whole window)",
 }
 
 
@@ -136,9 +136,7 @@ def _in_force(outcome: FitOutcome) -> list[str]:
             f"- Minimum position: {size}; no weight strictly between 0 and {size} in size."
         )
     if job.holdings is not None:
-        lines.append(
-            f"- Current holdings: `{inline(relative_path(job.holdings.file, folder))}`."
-        )
+        lines.append(f"- Current holdings: `{inline(relative_path(job.holdings.file, folder))}`.")
     if limits.turnover_penalty:
         lines.append(
             f"- Turnover penalty: {_number(limits.turnover_penalty)} times the sum of absolute "
@@ -151,8 +149,10 @@ def _in_force(outcome: FitOutcome) -> list[str]:
                 f", of which {percent_short(limits.outside_turnover)} is forced by selling "
                 "holdings that are not constituents"
             )
-        lines.append(f"- Turnover cap: one-way turnover at most "
-                     f"{percent_short(limits.max_turnover)}{forced}.")
+        lines.append(
+            f"- Turnover cap: one-way turnover at most "
+            f"{percent_short(limits.max_turnover)}{forced}."
+        )
     return lines
 
 
@@ -162,8 +162,10 @@ def _per_name(outcome: FitOutcome, limits: Limits) -> list[str]:
     if spec.weight is not None:
         lines.append(f"- Every name: {_bounds(spec.weight)}.")
     if spec.names:
-        lines.append("- By name" + (" (instead of the bound on every name):"
-                                    if spec.weight is not None else ":"))
+        lines.append(
+            "- By name"
+            + (" (instead of the bound on every name):" if spec.weight is not None else ":")
+        )
         lines += [f"  - {inline(name)}: {_bounds(b)}." for name, b in spec.names]
     if lines or (limits.lower is None and limits.upper is None):
         return lines
@@ -171,8 +173,9 @@ def _per_name(outcome: FitOutcome, limits: Limits) -> list[str]:
     names = outcome.data.names
     lower = limits.lower if limits.lower is not None else np.full(len(names), -np.inf)
     upper = limits.upper if limits.upper is not None else np.full(len(names), np.inf)
-    bounded = [i for i in range(len(names)) if _side(lower[i]) is not None
-               or _side(upper[i]) is not None]
+    bounded = [
+        i for i in range(len(names)) if _side(lower[i]) is not None or _side(upper[i]) is not None
+    ]
     lines.append("- By name:" if bounded else "- By name: no bound.")
     lines += [f"  - {inline(names[i])}: {_range(lower[i], upper[i])}." for i in bounded]
     return lines
@@ -212,10 +215,7 @@ def _statuses(outcome: FitOutcome, model: ModelOutcome) -> list[str]:
     shown = ordered[: binding + STATUS_ROWS_WITH_ROOM]
     lines += table(
         ["Limit", "Bound", "Value", "Slack", "Binding"],
-        [
-            [status_words(s, names), *_status_cells(s), "yes" if s.binding else "no"]
-            for s in shown
-        ],
+        [[status_words(s, names), *_status_cells(s), "yes" if s.binding else "no"] for s in shown],
         [False, True, True, True, False],
     )
     if len(ordered) > len(shown):
@@ -234,9 +234,7 @@ def _name_cap(outcome: FitOutcome, model: ModelOutcome) -> list[str]:
     search = model.final_fit.search
     lines = []
     if search is None:
-        lines.append(
-            f"The held model {inline(model.name)} was not fitted under the cap on names."
-        )
+        lines.append(f"The held model {inline(model.name)} was not fitted under the cap on names.")
     else:
         lines += _search(outcome, model.name, search)
     capped = [m for m in outcome.study.models if m.uncapped_in_sample is not None]
@@ -246,7 +244,7 @@ def _name_cap(outcome: FitOutcome, model: ModelOutcome) -> list[str]:
         "",
         "Cost of the cap: tracking error of each model fitted on the choosing-and-fitting rows "
         "with the cap, and at the same penalty without it (every other limit kept), in "
-        "percent. \"Added\" is capped minus uncapped.",
+        'percent. "Added" is capped minus uncapped.',
         "",
     ]
     lines += table(

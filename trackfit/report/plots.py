@@ -109,19 +109,30 @@ def cv_curve_png(model: ModelOutcome) -> bytes:
             label = f"l1_ratio {curve.l1_ratio:.2f}" if several else "mean CV error"
             (line,) = ax.plot(a, m, marker=".", markersize=3, linewidth=1.2, label=label)
             band = "one standard error" if not several else None
-            ax.fill_between(a, m - s, m + s, color=line.get_color(), alpha=0.15, linewidth=0,
-                            label=band)
+            ax.fill_between(
+                a, m - s, m + s, color=line.get_color(), alpha=0.15, linewidth=0, label=band
+            )
         if not drawn:
             _empty(ax, "No finite cross-validation error to show.")
         else:
             ax.set_xscale("log")
             if cv.alpha > 0:
-                ax.axvline(cv.alpha, color="black", linestyle="--", linewidth=1,
-                           label=f"chosen alpha {cv.alpha:.3e} (l1_ratio {cv.l1_ratio:.2f})")
+                ax.axvline(
+                    cv.alpha,
+                    color="black",
+                    linestyle="--",
+                    linewidth=1,
+                    label=f"chosen alpha {cv.alpha:.3e} (l1_ratio {cv.l1_ratio:.2f})",
+                )
             if cv.best_alpha > 0:
-                ax.axvline(cv.best_alpha, color=_NEGATIVE, linestyle=":", linewidth=1.2,
-                           label=f"smallest error at {cv.best_alpha:.3e} "
-                                 f"(l1_ratio {cv.best_l1_ratio:.2f})")
+                ax.axvline(
+                    cv.best_alpha,
+                    color=_NEGATIVE,
+                    linestyle=":",
+                    linewidth=1.2,
+                    label=f"smallest error at {cv.best_alpha:.3e} "
+                    f"(l1_ratio {cv.best_l1_ratio:.2f})",
+                )
             ax.legend(loc="best", fontsize=8)
         ax.set_xlabel("Penalty alpha (standardized units, log scale)")
         ax.set_ylabel("Mean CV error\n(mean squared active return per period)")
@@ -172,9 +183,15 @@ def top_weights_png(outcome: FitOutcome) -> bytes:
             ax.set_yticks(rows, [_label(names[i]) for i in shown])
             ax.axvline(0.0, color="black", linewidth=0.8)
             for row, value in zip(rows, values):
-                ax.annotate(f"{value:.2f}%", (value, row), xytext=(3 if value >= 0 else -3, 0),
-                            textcoords="offset points", va="center", fontsize=8,
-                            ha="left" if value >= 0 else "right")
+                ax.annotate(
+                    f"{value:.2f}%",
+                    (value, row),
+                    xytext=(3 if value >= 0 else -3, 0),
+                    textcoords="offset points",
+                    va="center",
+                    fontsize=8,
+                    ha="left" if value >= 0 else "right",
+                )
             ax.margins(x=0.15)
         ax.set_xlabel("Weight (% of portfolio value)")
         ax.set_title(
@@ -217,10 +234,21 @@ def cumulative_png(dates: Any, portfolio: Any, benchmark: Any) -> bytes:
 
     def draw(fig: Any) -> None:
         ax = fig.add_subplot()
-        ax.plot(days, (np.cumprod(1.0 + p) - 1.0) * 100.0, color=_PORTFOLIO, linewidth=1.4,
-                label="Portfolio")
-        ax.plot(days, (np.cumprod(1.0 + b) - 1.0) * 100.0, color=_BENCHMARK, linewidth=1.2,
-                linestyle="--", label="Benchmark")
+        ax.plot(
+            days,
+            (np.cumprod(1.0 + p) - 1.0) * 100.0,
+            color=_PORTFOLIO,
+            linewidth=1.4,
+            label="Portfolio",
+        )
+        ax.plot(
+            days,
+            (np.cumprod(1.0 + b) - 1.0) * 100.0,
+            color=_BENCHMARK,
+            linewidth=1.2,
+            linestyle="--",
+            label="Benchmark",
+        )
         ax.axhline(0.0, color="black", linewidth=0.6)
         _date_axis(ax)
         ax.set_ylabel("Cumulative total return (%)")
@@ -271,11 +299,17 @@ def rolling_te_png(dates: Any, active: Any, periods_per_year: int, window: int) 
         else:
             views = np.lib.stride_tricks.sliding_window_view(a, w)
             rolling = np.std(views, axis=1, ddof=1) * np.sqrt(k) * 100.0
-            ax.plot(days[w - 1:], rolling, color=_PORTFOLIO, linewidth=1.4,
-                    label=f"{w}-period window")
+            ax.plot(
+                days[w - 1 :], rolling, color=_PORTFOLIO, linewidth=1.4, label=f"{w}-period window"
+            )
             whole = float(np.std(a, ddof=1)) * np.sqrt(k) * 100.0
-            ax.axhline(whole, color=_BENCHMARK, linestyle="--", linewidth=1,
-                       label=f"whole period, {whole:.2f}%")
+            ax.axhline(
+                whole,
+                color=_BENCHMARK,
+                linestyle="--",
+                linewidth=1,
+                label=f"whole period, {whole:.2f}%",
+            )
             ax.set_ylim(bottom=0.0)
             ax.set_xlim(days[0], days[-1])  # the same span as the other backtest charts
             ax.legend(loc="best")
@@ -327,8 +361,14 @@ def names_turnover_png(dates: Any, names_held: Any, turnover: Any) -> bytes:
         bottom.vlines(days[1:], 0.0, t[1:], color=_PORTFOLIO, linewidth=1.2)
         bottom.plot(days[1:], t[1:], "o", color=_PORTFOLIO, markersize=3, label="rebalance")
         bottom.vlines(days[:1], 0.0, t[:1], color=_MUTED, linewidth=1.2)
-        bottom.plot(days[:1], t[:1], "o", color=_MUTED, markersize=3,
-                    label="first rebalance (bought from cash)")
+        bottom.plot(
+            days[:1],
+            t[:1],
+            "o",
+            color=_MUTED,
+            markersize=3,
+            label="first rebalance (bought from cash)",
+        )
         bottom.set_ylim(bottom=0.0)
         bottom.set_ylabel("One-way turnover (%)")
         bottom.legend(loc="best", fontsize=8)
@@ -420,8 +460,11 @@ def _series(func: str, name: str, values: Any, n: int) -> np.ndarray:
 
 
 def _integer(func: str, name: str, value: Any, least: int) -> int:
-    if isinstance(value, (bool, np.bool_)) or not isinstance(value, (int, np.integer)) \
-            or value < least:
+    if (
+        isinstance(value, (bool, np.bool_))
+        or not isinstance(value, (int, np.integer))
+        or value < least
+    ):
         raise ValueError(
             f"The '{name}' parameter of {func} must be an integer >= {least}. Got {value!r}."
         )

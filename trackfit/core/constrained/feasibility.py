@@ -130,9 +130,7 @@ def _check_long_only(limits: Limits) -> None:
             "long_only"
         )
     neg = [
-        f"{g.name!r} (maximum {g.upper:g})"
-        for g in limits.groups
-        if _g(g.upper, np.inf) < -_TOL
+        f"{g.name!r} (maximum {g.upper:g})" for g in limits.groups if _g(g.upper, np.inf) < -_TOL
     ]
     if neg:
         raise SolverError(
@@ -163,13 +161,12 @@ def _check_ranges(limits: Limits) -> None:
             raise SolverError(
                 f"the {item.what} minimum {lo:g} is above its maximum {hi:g}; change one of them"
             )
-    if limits.max_turnover is not None:
-        if limits.max_turnover < limits.outside_turnover - _TOL:
-            raise SolverError(
-                f"max_turnover {limits.max_turnover:g} is below the one-way turnover of "
-                f"{limits.outside_turnover:g} forced by selling holdings that are not "
-                f"constituents; raise max_turnover to at least {limits.outside_turnover:g}"
-            )
+    if limits.max_turnover is not None and limits.max_turnover < limits.outside_turnover - _TOL:
+        raise SolverError(
+            f"max_turnover {limits.max_turnover:g} is below the one-way turnover of "
+            f"{limits.outside_turnover:g} forced by selling holdings that are not "
+            f"constituents; raise max_turnover to at least {limits.outside_turnover:g}"
+        )
 
 
 def _forced(lo: np.ndarray, upper: np.ndarray) -> np.ndarray:
@@ -310,9 +307,7 @@ def _check_turnover(limits, names, lower, upper, current) -> None:
     out = np.flatnonzero((current < lower - _TOL) | (current > upper + _TOL))
     if len(out):
         broken.append(
-            "per-name bounds ("
-            + _listed([f"{names[j]!r} holds {current[j]:g}" for j in out])
-            + ")"
+            "per-name bounds (" + _listed([f"{names[j]!r} holds {current[j]:g}" for j in out]) + ")"
         )
     for item in sorted(limits.linear, key=lambda i: STATUS_RANK.get(i.kind, len(STATUS_RANK))):
         if item.coef is None and item.depends_on_rows:
@@ -320,8 +315,11 @@ def _check_turnover(limits, names, lower, upper, current) -> None:
         total = float(item.coefficients(len(current), "check_feasible") @ current)
         lo, hi = item.bounds()
         if total < lo - _TOL or total > hi + _TOL:
-            broken.append(_HELD_WORDS.get(item.kind, "{what} (holds {total:g})").format(
-                what=item.what, total=total))
+            broken.append(
+                _HELD_WORDS.get(item.kind, "{what} (holds {total:g})").format(
+                    what=item.what, total=total
+                )
+            )
     held = int(np.count_nonzero(current))
     if limits.max_names is not None and held > limits.max_names:
         broken.append(f"max_names {limits.max_names} ({held} names held)")

@@ -17,13 +17,13 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from trackfit.core.constrained.interior import InteriorPoint
 from trackfit.core.constrained.optimality import (
     clip_signs,
     row_matrix,
     settle_multipliers,
     stationarity,
 )
-from trackfit.core.constrained.interior import InteriorPoint
 from trackfit.core.constrained.problem import Problem
 from trackfit.core.constrained.state import (
     AT_LOWER,
@@ -128,7 +128,7 @@ def solve_state(prob: Problem, state: State) -> tuple[np.ndarray, np.ndarray, fl
         k = len(keep)
         K = np.block([[HF, A.T], [A, np.zeros((k, k))]])
         x = _refined_solve(K, np.concatenate([-q, np.asarray(targets)[keep]]))
-        b[F], lam = x[: len(F)], x[len(F):]
+        b[F], lam = x[: len(F)], x[len(F) :]
     else:
         b[F], lam = _refined_solve(HF, -q), np.zeros(0)
     if not determined:  # the minimum-norm multipliers that make the free columns stationary
@@ -219,9 +219,7 @@ def _dual_fixes(
     if not (bad_vars.any() or bad_rows.any() or bad_cap):
         return None
     if not bulk:  # keep only the single worst
-        worst = max(
-            float(np.max(viol, initial=0.0)), float(np.max(wrong, initial=0.0)), wrong_cap
-        )
+        worst = max(float(np.max(viol, initial=0.0)), float(np.max(wrong, initial=0.0)), wrong_cap)
         bad_vars = bad_vars & (viol == worst) & (np.cumsum(viol == worst) == 1)
         if bad_vars.any():
             bad_rows, bad_cap = np.zeros_like(bad_rows), False

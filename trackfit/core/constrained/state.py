@@ -117,6 +117,7 @@ def classify(
     rep = np.where(pinned, 0.0, b)
     rows = np.full(len(prob.rows), INACTIVE, dtype=np.int8)
     values = row_values(prob, b)
+
     def near(value: float, bound: float) -> bool:
         return bool(np.isfinite(bound)) and abs(value - bound) <= row_tol * max(1.0, abs(bound))
 

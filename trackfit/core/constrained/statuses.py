@@ -69,9 +69,13 @@ def _raw_statuses(weights: np.ndarray, limits: Limits) -> list[LimitStatus]:
     for item in _status_order(limits):
         total = item.total(w)
         if _finite(item.lower):
-            out.append(_status(f"{item.kind}_min", item.label, item.lower, total, total - item.lower))
+            out.append(
+                _status(f"{item.kind}_min", item.label, item.lower, total, total - item.lower)
+            )
         if _finite(item.upper):
-            out.append(_status(f"{item.kind}_max", item.label, item.upper, total, item.upper - total))
+            out.append(
+                _status(f"{item.kind}_max", item.label, item.upper, total, item.upper - total)
+            )
     if limits.max_turnover is not None:
         current = limits.current if limits.current is not None else np.zeros(w.size)
         value = float(np.sum(np.abs(w - current))) / 2.0 + limits.outside_turnover

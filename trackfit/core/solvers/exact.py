@@ -74,7 +74,6 @@ class ExactPathSolver:
         self, data: GramData, alphas: np.ndarray, l1_ratio: float, *, positive: bool = False
     ) -> PathSolution:
         alphas = np.asarray(alphas, dtype=float)
-        k = len(data.xty)
         penalty = Penalty(l1_ratio)
         if positive and not penalty.path_engine_long_only:
             raise SolverError("long-only ridge needs the constrained solver")
@@ -123,6 +122,8 @@ class ExactPathSolver:
         )
         w = coefs[solved - 1] if solved else np.zeros(len(data.xty))
         for i in range(solved, len(alphas)):  # dependent columns: finish by active sets
-            w, steps[i] = solve_enet(data.gram, data.xty, alphas[i], 0.0, positive=positive, start=w)
+            w, steps[i] = solve_enet(
+                data.gram, data.xty, alphas[i], 0.0, positive=positive, start=w
+            )
             coefs[i] = w
         return coefs, steps
