@@ -12,6 +12,9 @@ import trackfit
 
 PACKAGE = Path(trackfit.__file__).parent
 
+#: What an outcome may be made of, and so what the reporter and the commands may read too.
+RESULTS = {"outcomes", "evaluate", "core", "data", "job", "jobfile", "errors"}
+
 #: Which parts of trackfit each layer may import (its own part always). DEVELOPERS.md has the map.
 ALLOWED = {
     "core": {"core", "errors"},
@@ -19,29 +22,9 @@ ALLOWED = {
     "jobfile": {"job", "jobfile", "core", "errors"},
     "data": {"data", "job", "jobfile", "errors"},
     "evaluate": {"evaluate", "core", "errors"},
-    "outcomes": {"outcomes", "evaluate", "core", "data", "job", "jobfile", "errors"},
-    "report": {
-        "report",
-        "outcomes",
-        "evaluate",
-        "core",
-        "data",
-        "job",
-        "jobfile",
-        "errors",
-        "__init__",
-    },
-    "commands": {
-        "commands",
-        "report",
-        "outcomes",
-        "evaluate",
-        "core",
-        "data",
-        "job",
-        "jobfile",
-        "errors",
-    },
+    "outcomes": RESULTS,
+    "report": RESULTS | {"report", "__init__"},
+    "commands": RESULTS | {"commands", "report"},
     "cli": {"commands", "errors", "__init__"},
     "errors": set(),
     "__init__": set(),
