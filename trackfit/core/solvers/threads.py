@@ -13,7 +13,6 @@ its vendor, which code of our own would do worse. Results never depend on it, on
 
 from __future__ import annotations
 
-import sys
 import threading
 from collections.abc import Iterator
 from contextlib import contextmanager
@@ -27,31 +26,23 @@ _depth = 0
 _limiter = None
 # Finding the loaded libraries took 1.3 ms per call on the benchmark machine, more than many
 # whole fits of the test suite; a controller made once sets and restores limits in 0.02 ms.
-# It only sees the libraries loaded when it is made; scipy (which loads a BLAS of its own)
-# loads only when a solver needs it (importing it costs 0.2 s that a plain lasso fit does not
-# need), so the controller is made again once, the first time scipy is found loaded.
+# It only sees the libraries loaded when it is made, and the solvers import scipy lazily, so
+# scipy.linalg (which loads scipy's own BLAS) is imported first.
 _controller: ThreadpoolController | None = None
-_with_scipy = False
-
-
-def _current_controller() -> ThreadpoolController:
-    global _controller, _with_scipy
-    scipy_loaded = "scipy.linalg" in sys.modules
-    if _controller is None or (scipy_loaded and not _with_scipy):
-        from threadpoolctl import ThreadpoolController
-
-        _controller = ThreadpoolController()
-        _with_scipy = scipy_loaded
-    return _controller
 
 
 @contextmanager
 def single_threaded() -> Iterator[None]:
     """Limit BLAS to one thread inside the block (re-entrant: only the outermost acts)."""
-    global _depth, _limiter
+    global _depth, _limiter, _controller
     with _lock:
         if _depth == 0:
-            _limiter = _current_controller().limit(limits=1, user_api="blas")
+            if _controller is None:
+                import scipy.linalg  # noqa: F401
+                from threadpoolctl import ThreadpoolController
+
+                _controller = ThreadpoolController()
+            _limiter = _controller.limit(limits=1, user_api="blas")
         _depth += 1
     try:
         yield
