@@ -31,6 +31,9 @@ import numpy as np
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(ROOT / "benchmarks"))
+
+from factor_data import factor_returns  # noqa: E402
 
 FIT = {"rows": 750, "names": 500}
 BACKTEST = {"window": 750, "dates": 24, "step": 21, "names": 500}
@@ -43,32 +46,6 @@ FIRST_DATE = np.datetime64("2011-01-03")
 
 # ---------------------------------------------------------------------------------------------
 # Data and files
-
-
-def factor_returns(n: int, p: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
-    """Invented daily returns as in benchmarks/engine.py: a market factor, 10 sector factors
-    and idiosyncratic noise; the benchmark is the cap-weighted sum of a random 30% of the
-    constituents plus 1e-3 daily noise.
-
-    Returns
-    -------
-    X : ndarray of shape (n, p)
-    y : ndarray of shape (n,)
-    """
-    rng = np.random.default_rng(seed)
-    n_sectors = 10
-    market = rng.normal(3e-4, 0.01, n)
-    sectors = rng.normal(0.0, 0.006, (n, n_sectors))
-    sector_of = rng.integers(0, n_sectors, p)
-    beta = rng.normal(1.0, 0.3, p)
-    loading = rng.normal(1.0, 0.3, p)
-    idio = rng.normal(0.0, 1.0, (n, p)) * rng.uniform(0.008, 0.025, p)
-    X = market[:, None] * beta + sectors[:, sector_of] * loading + idio
-    caps = rng.lognormal(0.0, 1.0, p)
-    members = rng.choice(p, max(5, int(0.3 * p)), replace=False)
-    w = np.zeros(p)
-    w[members] = caps[members] / caps[members].sum()
-    return X, X @ w + rng.normal(0.0, 1e-3, n)
 
 
 def business_days(n: int) -> np.ndarray:
