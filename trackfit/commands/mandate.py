@@ -107,8 +107,8 @@ def _name_bounds(job: Job, index: dict[str, int]) -> tuple[np.ndarray | None, np
         if name not in index:
             raise JobError(
                 f"{job.path}: 'limits.names' lists {name!r}, which is not a constituent of this "
-                f"fit{_close(name, index)}; fix the name or remove it (constituents whose return "
-                "never varies in the window are left out of the fit; see the warnings)"
+                f"fit{_close(name, index)}; fix the name or remove it ({_left_out(job)}; see "
+                "the warnings)"
             )
         i = index[name]
         if bounds.min is not None:
@@ -208,6 +208,18 @@ def _current(
             "alone"
         )
     return held, current, float(outside)
+
+
+def _left_out(job: Job) -> str:
+    """Why a constituent of the job can be missing from the fit."""
+    coverage = job.data.min_coverage
+    if coverage is None:
+        return "constituents whose return never varies in the window are left out of the fit"
+    return (
+        "constituents whose return never varies in the window, or that have a return on fewer "
+        f"than {coverage:.0%} of its dates (data.min_coverage: {coverage:g}; listed late, "
+        "delisted or with long gaps), are left out of the fit"
+    )
 
 
 def _close(word: str, choices) -> str:

@@ -9,6 +9,7 @@ import numpy as np
 from trackfit.data.calendar import MIN_DATES, infer_periods_per_year
 from trackfit.data.checks import check_finite, check_positive_prices, missing_by_column
 from trackfit.data.dataset import DataStep, TrackingData
+from trackfit.data.gaps import carry_forward, has_return, short_history
 from trackfit.data.returns import per_period_rate, percent_to_decimal, simple_returns
 from trackfit.data.series import AlignedSeries, align_series
 from trackfit.data.window import select_window
@@ -23,9 +24,15 @@ def load_tracking_data(
 
     In order: read each file once and pick the job's columns; keep the dates common to all
     files; turn prices into returns (after aligning, so every return spans the same dates);
-    cut the window ending at ``as_of``; check the values it uses (finite, prices above zero,
-    missing values per ``data.missing``); convert the risk-free rate to a per-period return and
+    cut the window ending at ``as_of``; check the values it uses (finite, prices above zero);
+    carry missing prices forward per ``data.carry_forward``; leave out constituents with a
+    return on too few of the window's dates per ``data.min_coverage``; handle the missing
+    values left per ``data.missing``; convert the risk-free rate to a per-period return and
     subtract it; drop constituents whose return never varies.
+
+    With ``data.carry_forward`` N, the N file rows before the window are read and checked too,
+    since their prices may be carried into it; only earlier rows fill a cell, so a window
+    ending at d fills exactly as a longer history does.
 
     Parameters
     ----------
@@ -63,23 +70,43 @@ def load_tracking_data(
     window = select_window(return_dates, job.window, as_of)
     steps.extend(window.steps)
 
-    # The file rows the window uses: with prices, also the row before its first return date.
+    # The file rows the window uses: with prices, also the row before its first return date,
+    # and the rows whose prices data.carry_forward may carry into the window.
     lead = 1 if prices else 0
-    raw = aligned.values[window.start : window.stop + lead]
-    raw_dates = dates[window.start : window.stop + lead]
+    carry = spec.carry_forward if prices else 0
+    lo = max(0, window.start - carry)
+    raw = aligned.values[lo : window.stop + lead]
+    raw_dates = dates[lo : window.stop + lead]
     check_finite(raw, raw_dates, aligned.labels)
     if prices:
         check_positive_prices(raw[:, :n_priced], raw_dates, aligned.labels[:n_priced])
+    warnings: list[str] = []
+    if carry:
+        raw = _carried(
+            raw, raw_dates, window.start - lo, carry, aligned.labels[:n_priced], warnings
+        )
+    raw, raw_dates = raw[window.start - lo :], raw_dates[window.start - lo :]
+    window_dates = return_dates[window.start : window.stop]
+
+    labels, names = aligned.labels, aligned.names
+    if spec.min_coverage is not None:
+        present = has_return(raw[:, :n_priced], prices=prices)
+        out = short_history(present, window_dates, labels[:n_priced], spec.min_coverage, warnings)
+        if out.size:
+            columns = np.delete(np.arange(raw.shape[1]), out)
+            raw = raw[:, columns]
+            labels = tuple(labels[c] for c in columns)
+            names = tuple(names[c - 1] for c in columns[1 : n_priced - out.size])
+            n_priced -= out.size
     missing = np.isnan(raw)
     if missing.any() and spec.missing == "error":
         raise DataError(
             f"missing values on dates the fit window uses ({raw_dates[0]} to {raw_dates[-1]}): "
-            + "; ".join(missing_by_column(missing, raw_dates, aligned.labels))
+            + "; ".join(missing_by_column(missing, raw_dates, labels))
             + "; fill the gaps in the files, or set data.missing: drop_dates to leave those "
             "dates out"
         )
 
-    window_dates = return_dates[window.start : window.stop]
     returns, rate = _returns(
         raw,
         prices=prices,
@@ -99,8 +126,7 @@ def load_tracking_data(
     steps.append(
         DataStep("dates with a missing value in the fit window", len(keep), int(keep.sum()))
     )
-    warnings: list[str] = []
-    where = "; ".join(missing_by_column(missing, raw_dates, aligned.labels))
+    where = "; ".join(missing_by_column(missing, raw_dates, labels))
     if gaps.any():
         why = "; a missing price leaves the returns into and out of its date without a value"
         warnings.append(
@@ -123,13 +149,13 @@ def load_tracking_data(
             rate[keep], unit=rf.unit, quote=rf.quote, periods_per_year=periods
         )
     excess = returns if risk_free is None else returns - risk_free[:, None]
-    kept = _varying_columns(returns, excess, window_dates, aligned.labels, warnings)
+    kept = _varying_columns(returns, excess, window_dates, labels, warnings)
 
     return TrackingData(
         dates=np.ascontiguousarray(window_dates, dtype="datetime64[D]"),
         benchmark=np.ascontiguousarray(excess[:, 0], dtype=np.float64),
         constituents=np.ascontiguousarray(excess[:, 1 + kept], dtype=np.float64),
-        names=tuple(aligned.names[j] for j in kept),
+        names=tuple(names[j] for j in kept),
         benchmark_name=aligned.benchmark_name,
         risk_free=None if risk_free is None else np.ascontiguousarray(risk_free, np.float64),
         periods_per_year=periods,
@@ -154,6 +180,32 @@ def _returns(
         returns = percent_to_decimal(raw[:, :n_priced]) if percent else raw[:, :n_priced]
         rate = raw[:, n_priced] if has_rate else None
     return returns, rate
+
+
+def _carried(
+    raw: np.ndarray,
+    dates: np.ndarray,
+    skip: int,
+    limit: int,
+    labels: tuple[str, ...],
+    warnings: list[str],
+) -> np.ndarray:
+    """``raw`` with its prices (the first ``len(labels)`` columns) carried forward; a warning.
+
+    The first ``skip`` rows precede the window and only lend their prices; the warning counts
+    the cells filled after them. The risk-free column is a rate, not a price, and stays as is.
+    """
+    n = len(labels)
+    filled, carried = carry_forward(raw[:, :n], limit)
+    carried = carried[skip:]
+    if carried.any():
+        where = "; ".join(missing_by_column(carried, dates[skip:], labels))
+        warnings.append(
+            f"data.carry_forward is {limit}: {int(carried.sum())} missing price(s) were filled "
+            "with the last price before them, so the return over each gap is 0 and the move "
+            f"lands on the next price ({where})"
+        )
+    return np.concatenate([filled, raw[:, n:]], axis=1)
 
 
 def _varying_columns(

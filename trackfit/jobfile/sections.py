@@ -135,13 +135,30 @@ def parse_data(r: Reader, value: Any) -> DataSpec:
     s = r.section(
         "data",
         value,
-        ("date_column", "date_format", "values", "returns_unit", "missing", "periods_per_year"),
+        (
+            "date_column",
+            "date_format",
+            "values",
+            "returns_unit",
+            "missing",
+            "periods_per_year",
+            "carry_forward",
+            "min_coverage",
+        ),
     )
     values = r.choice("data.values", s.get("values"), VALUES, DataSpec.values)
     if values == "prices" and s.get("returns_unit") is not None:
         raise r.error(
             "'data.returns_unit' applies only with 'data.values: returns', but "
             "'data.values' is 'prices'; remove 'data.returns_unit'"
+        )
+    carry = r.integer("data.carry_forward", s.get("carry_forward"), 0, DataSpec.carry_forward)
+    if carry and values != "prices":
+        raise r.error(
+            "'data.carry_forward' applies only with 'data.values: prices': repeating a price "
+            "makes the return over the gap 0 and puts the move on the next price, but a missing "
+            "return is a move nobody knows, and filling it would invent one; remove "
+            "'data.carry_forward' (data.min_coverage and data.missing handle the gaps)"
         )
     ppy = s.get("periods_per_year")
     return DataSpec(
@@ -157,7 +174,19 @@ def parse_data(r: Reader, value: Any) -> DataSpec:
         else r.integer(
             "data.periods_per_year", ppy, 1, None, "'auto' or an integer >= 1 (252, 52, 12, 4)"
         ),
+        carry_forward=carry,
+        min_coverage=_coverage(r, s.get("min_coverage")),
     )
+
+
+def _coverage(r: Reader, value: Any) -> float | None:
+    if value is None:
+        return None
+    must = "a number above 0 and at most 1 (the share of the window's dates), or null for off"
+    share = r.number("data.min_coverage", value, 0.0, 1.0, must)
+    if share == 0.0:
+        raise r.bad("data.min_coverage", must, value)
+    return share
 
 
 def _date_format(r: Reader, value: Any) -> str | None:

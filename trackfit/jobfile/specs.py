@@ -48,6 +48,8 @@ class DataSpec:
     returns_unit: str = "decimal"  # "decimal" | "percent" (only for values: returns)
     missing: str = "error"  # "error" | "drop_dates"
     periods_per_year: int | None = None  # None = inferred from date spacing
+    carry_forward: int = 0  # most periods a missing price is repeated (prices only); 0 = off
+    min_coverage: float | None = None  # least share of window dates with a return; None = off
 
 
 @dataclass(frozen=True)

@@ -94,7 +94,7 @@ def _job(job: Job) -> dict[str, Any]:
             {"file": relative_path(c.file, folder), "columns": c.columns} for c in job.constituents
         ],
         "risk_free": risk_free,
-        "data": dataclasses.asdict(job.data),
+        "data": _data_spec(job),
         "window": dataclasses.asdict(job.window),
         "models": [_model_spec(m) for m in job.models],
         "hold": job.hold,
@@ -104,6 +104,16 @@ def _job(job: Job) -> dict[str, Any]:
         "limits": job_limits(job.limits, folder),
         "holdings": job_holdings(job.holdings, folder),
     }
+
+
+def _data_spec(job: Job) -> dict[str, Any]:
+    # The gap keys appear only when set, so summaries of jobs without them keep their bytes.
+    spec = dataclasses.asdict(job.data)
+    if spec["carry_forward"] == 0:
+        del spec["carry_forward"]
+    if spec["min_coverage"] is None:
+        del spec["min_coverage"]
+    return spec
 
 
 def _model_spec(model) -> dict[str, Any]:
