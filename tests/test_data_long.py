@@ -200,7 +200,9 @@ def test_parquet_integer_values_and_nulls(tmp_path):
     assert table.columns == ("a", "note")
     np.testing.assert_array_equal(table.numbers("a"), [np.nan, 1.0])
     # a text column fails only when asked for, as a wide CSV's notes column does
-    with pytest.raises(DataError, match="w.parquet: column 'note' is stored as (large_)?string, not as numbers"):
+    with pytest.raises(
+        DataError, match="w.parquet: column 'note' is stored as (large_)?string, not as numbers"
+    ):
         table.numbers("note")
 
 
