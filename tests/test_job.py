@@ -353,7 +353,8 @@ ERRORS = [
     (B, "'constituents' is required: a mapping with 'file' and 'columns', or a non-empty list"),
     (
         "benchmark: index.csv\n" + C,
-        "'benchmark' must be a mapping with keys among 'file', 'column'; got 'index.csv'.",
+        "'benchmark' must be a mapping with keys among 'file', 'column', "
+        "'layout', 'format', 'name_column', 'value_column'; got 'index.csv'.",
     ),
     (
         "benchmark: {column: lbx60}\n" + C,
@@ -382,7 +383,8 @@ ERRORS = [
     ),
     (
         B + "constituents: [a.csv]\n",
-        "'constituents[0]' must be a mapping with keys among 'file', 'columns'; got 'a.csv'.",
+        "'constituents[0]' must be a mapping with keys among 'file', 'columns', "
+        "'layout', 'format', 'name_column', 'value_column'; got 'a.csv'.",
     ),
     (B + "constituents: [{columns: all}]\n", "'constituents[0].file' is required"),
     # constituent columns
@@ -453,7 +455,7 @@ ERRORS = [
     (
         BC + "risk_free: r.csv\n",
         "'risk_free' must be a mapping with keys among 'file', 'column', "
-        "'unit', 'quote'; got 'r.csv'.",
+        "'unit', 'quote', 'layout', 'format', 'name_column', 'value_column'; got 'r.csv'.",
     ),
     (
         BC + "data: {values: price}\n",

@@ -8,10 +8,13 @@ from pathlib import Path
 
 import numpy as np
 
-from trackfit.data.csvfile import WideTable, read_wide_csv
+from trackfit.data.csvfile import WideTable, _check_file, read_wide_csv
 from trackfit.data.dataset import DataStep
+from trackfit.data.longfile import LongTable, read_long_csv
+from trackfit.data.parquetfile import read_parquet
 from trackfit.errors import DataError
 from trackfit.job import Job
+from trackfit.jobfile.specs import FileLayout
 
 #: Names the output files use for something other than a constituent.
 RESERVED_NAMES = frozenset({"(cash)"})
@@ -72,28 +75,39 @@ def align_series(job: Job) -> AlignedSeries:
     """
     base = job.path.parent.resolve()
     tables: dict[Path, WideTable] = {}
+    layouts: dict[Path, tuple[FileLayout, str]] = {}
 
-    def table(path: Path) -> WideTable:
+    def table(path: Path, layout: FileLayout, key: str) -> WideTable:
         path = (path if path.is_absolute() else base / path).resolve()
         if path not in tables:
-            tables[path] = read_wide_csv(
+            tables[path] = read_table(
                 path,
+                layout,
                 date_column=job.data.date_column,
                 date_format=job.data.date_format,
                 label=_label(path, base),
             )
+            layouts[path] = (layout, key)
+        elif layouts[path][0] != layout:
+            first, where = layouts[path]
+            raise DataError(
+                f"{_label(path, base)}: '{where}' and '{key}' read this file with different "
+                f"layout keys ({_describe(first)} vs {_describe(layout)}); give both the same "
+                "layout, format, name_column and value_column"
+            )
         return tables[path]
 
     # Read in the job's order (benchmark, constituents, risk-free) so steps follow the job.
-    bench_table = table(job.benchmark.file)
-    for source in job.constituents:
-        table(source.file)
+    bench_table = table(job.benchmark.file, job.benchmark.layout, "benchmark")
+    keys = _constituent_keys(job)
+    for key, source in zip(keys, job.constituents):
+        table(source.file, source.layout, key)
     bench = _Pick(bench_table, _single_column(bench_table, job.benchmark.column, "benchmark"))
     rf = None
     if job.risk_free is not None:
-        rf_table = table(job.risk_free.file)
+        rf_table = table(job.risk_free.file, job.risk_free.layout, "risk_free")
         rf = _Pick(rf_table, _single_column(rf_table, job.risk_free.column, "risk_free"))
-    picks = _constituent_picks(job, table, bench, rf)
+    picks = _constituent_picks(job, lambda s, k: table(s.file, s.layout, k), keys, bench, rf)
     _check_names(bench, picks)
 
     used = list(tables.values())
@@ -124,6 +138,55 @@ def align_series(job: Job) -> AlignedSeries:
     )
 
 
+def read_table(
+    path: Path, layout: FileLayout, *, date_column: str, date_format: str | None, label: str
+) -> WideTable:
+    """Read one source file, wide or long, CSV or Parquet, as the table of a wide CSV file.
+
+    Parameters
+    ----------
+    path : Path
+        Absolute path of the file.
+    layout : FileLayout
+        The source's layout keys (``kind`` and ``format`` choose the reader).
+    date_column : str
+    date_format : str or None
+    label : str
+        How messages name the file.
+
+    Returns
+    -------
+    WideTable
+        Dates increasing; a long file's names as its columns (see :mod:`trackfit.data.longfile`).
+
+    Raises
+    ------
+    DataError
+        See :func:`~trackfit.data.csvfile.read_wide_csv`,
+        :func:`~trackfit.data.longfile.read_long_csv` and
+        :func:`~trackfit.data.parquetfile.read_parquet`.
+    """
+    _check_file(path, label)
+    options = {"date_column": date_column, "date_format": date_format, "label": label}
+    if layout.format == "parquet":
+        return read_parquet(path, layout=layout, **options)
+    if layout.kind == "long":
+        return read_long_csv(path, layout=layout, **options)
+    return read_wide_csv(path, **options)
+
+
+def _describe(layout: FileLayout) -> str:
+    if layout.kind == "wide":
+        return f"wide {layout.format}"
+    return (
+        f"long {layout.format}, names in {layout.name_column!r}, values in {layout.value_column!r}"
+    )
+
+
+def _constituent_keys(job: Job) -> list[str]:
+    return [f"constituents[{i}]" for i in range(len(job.constituents))]
+
+
 def _single_column(table: WideTable, column: str | None, key: str) -> str:
     if column is not None:
         table.require(column, f"{key}.column")
@@ -131,6 +194,12 @@ def _single_column(table: WideTable, column: str | None, key: str) -> str:
     if len(table.columns) == 1:
         return table.columns[0]
     found = ", ".join(repr(c) for c in table.columns) or "none"
+    if isinstance(table, LongTable):
+        raise DataError(
+            f"{table.label}: {key}.column is not set, so the long file must hold exactly one "
+            f"series, but column {table.name_column!r} holds {len(table.columns)} names "
+            f"({found}); set {key}.column to one of them"
+        )
     raise DataError(
         f"{table.label}: {key}.column is not set, so the file must hold exactly one series "
         f"besides the date column, but it has {len(table.columns)} ({found}); set "
@@ -138,14 +207,16 @@ def _single_column(table: WideTable, column: str | None, key: str) -> str:
     )
 
 
-def _constituent_picks(job: Job, table, bench: _Pick, rf: _Pick | None) -> list[_Pick]:
+def _constituent_picks(
+    job: Job, table, keys: list[str], bench: _Pick, rf: _Pick | None
+) -> list[_Pick]:
     # With `columns: all` a shared file's benchmark and rate columns are not constituents.
     taken = {(bench.table.path, bench.column)}
     if rf is not None:
         taken.add((rf.table.path, rf.column))
     picks: list[_Pick] = []
-    for i, source in enumerate(job.constituents):
-        t = table(source.file)
+    for i, (key, source) in enumerate(zip(keys, job.constituents)):
+        t = table(source, key)
         if source.columns is None:
             columns = [c for c in t.columns if (t.path, c) not in taken]
             if not columns:

@@ -11,6 +11,7 @@ from trackfit.jobfile.specs import (
     ConstituentSource,
     CVSpec,
     DataSpec,
+    FileLayout,
     GridSpec,
     OutputSpec,
     RiskFreeSpec,
@@ -25,13 +26,43 @@ VALUES = ("returns", "prices")
 MISSING = ("error", "drop_dates")
 SCHEMES = ("expanding", "rolling")
 RULES = ("min_error", "one_standard_error")
+LAYOUTS = ("wide", "long")
+FORMATS = ("csv", "parquet")
+#: File suffixes read as Parquet when a source names no ``format``; any other suffix is CSV.
+PARQUET_SUFFIXES = (".parquet", ".pq")
+#: Keys every source entry (benchmark, each constituents entry, risk_free) may hold.
+LAYOUT_KEYS = ("layout", "format", "name_column", "value_column")
+
+
+def _layout(r: Reader, key: str, s: dict, file: Path) -> FileLayout:
+    """The layout keys of one source entry ``key`` (already checked for unknown keys)."""
+    kind = r.choice(f"{key}.layout", s.get("layout"), LAYOUTS, FileLayout.kind)
+    default_format = "parquet" if file.suffix.lower() in PARQUET_SUFFIXES else "csv"
+    fmt = r.choice(f"{key}.format", s.get("format"), FORMATS, default_format)
+    if kind == "wide":
+        for name in ("name_column", "value_column"):
+            if s.get(name) is not None:
+                raise r.error(
+                    f"'{key}.{name}' applies only with '{key}.layout: long', but the layout "
+                    f"is wide; remove '{key}.{name}' or set '{key}.layout: long'"
+                )
+        return FileLayout(kind=kind, format=fmt)
+    name_column = r.text(f"{key}.name_column", s.get("name_column"), FileLayout.name_column)
+    value_column = r.text(f"{key}.value_column", s.get("value_column"), FileLayout.value_column)
+    if name_column == value_column:
+        raise r.error(
+            f"'{key}.name_column' and '{key}.value_column' are both {name_column!r}; "
+            "a long file needs one column for the series names and another for the values"
+        )
+    return FileLayout(kind, fmt, name_column, value_column)
 
 
 def parse_benchmark(r: Reader, value: Any) -> tuple[SeriesRef, str]:
     r.required("benchmark", value, "a mapping with 'file' and optionally 'column'")
-    s = r.section("benchmark", value, ("file", "column"))
+    s = r.section("benchmark", value, ("file", "column", *LAYOUT_KEYS))
+    file = r.path("benchmark.file", s.get("file"))
     ref = SeriesRef(
-        r.path("benchmark.file", s.get("file")), r.text("benchmark.column", s.get("column"))
+        file, r.text("benchmark.column", s.get("column")), _layout(r, "benchmark", s, file)
     )
     return ref, s["file"]
 
@@ -50,9 +81,10 @@ def parse_constituents(
     sources: list[ConstituentSource] = []
     taken: dict[tuple[Path, str | None], str] = {}  # (file, column; None = all) -> key path
     for key, item in entries:
-        s = r.section(key, item, ("file", "columns"))
+        s = r.section(key, item, ("file", "columns", *LAYOUT_KEYS))
+        file = r.path(f"{key}.file", s.get("file"))
         source = ConstituentSource(
-            r.path(f"{key}.file", s.get("file")), _columns(r, f"{key}.columns", s.get("columns"))
+            file, _columns(r, f"{key}.columns", s.get("columns")), _layout(r, key, s, file)
         )
         shown = s["file"]
         if source.file == bench.file:
@@ -122,12 +154,14 @@ def _columns(r: Reader, key: str, value: Any) -> tuple[str, ...] | None:
 def parse_risk_free(r: Reader, value: Any) -> RiskFreeSpec | None:
     if value is None:
         return None
-    s = r.section("risk_free", value, ("file", "column", "unit", "quote"))
+    s = r.section("risk_free", value, ("file", "column", "unit", "quote", *LAYOUT_KEYS))
+    file = r.path("risk_free.file", s.get("file"))
     return RiskFreeSpec(
-        file=r.path("risk_free.file", s.get("file")),
+        file=file,
         column=r.text("risk_free.column", s.get("column")),
         unit=r.choice("risk_free.unit", s.get("unit"), UNITS, RiskFreeSpec.unit),
         quote=r.choice("risk_free.quote", s.get("quote"), QUOTES, RiskFreeSpec.quote),
+        layout=_layout(r, "risk_free", s, file),
     )
 
 

@@ -13,11 +13,28 @@ from trackfit.core.models import ModelSpec
 
 
 @dataclass(frozen=True)
+class FileLayout:
+    """How one source file holds its series.
+
+    ``kind`` "wide": a date column plus one column per series. ``kind`` "long": one row per
+    (date, series) with the series' name in ``name_column`` and its value in ``value_column``;
+    the names then play the part of column names. ``format`` is "csv" or "parquet", set from
+    the job's ``format`` key or else the file suffix.
+    """
+
+    kind: str = "wide"  # "wide" | "long"
+    format: str = "csv"  # "csv" | "parquet"
+    name_column: str = "name"  # long files only
+    value_column: str = "value"  # long files only
+
+
+@dataclass(frozen=True)
 class SeriesRef:
     """One column of one file. ``column`` None means: the file's only non-date column."""
 
     file: Path
     column: str | None
+    layout: FileLayout = FileLayout()
 
 
 @dataclass(frozen=True)
@@ -26,6 +43,7 @@ class ConstituentSource:
 
     file: Path
     columns: tuple[str, ...] | None
+    layout: FileLayout = FileLayout()
 
 
 @dataclass(frozen=True)
@@ -36,6 +54,7 @@ class RiskFreeSpec:
     column: str | None
     unit: str = "decimal"  # "decimal" | "percent"
     quote: str = "per_period"  # "per_period" | "annual"
+    layout: FileLayout = FileLayout()
 
 
 @dataclass(frozen=True)
