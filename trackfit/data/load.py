@@ -6,7 +6,7 @@ from datetime import date
 
 import numpy as np
 
-from trackfit.data.calendar import MIN_DATES, infer_periods_per_year
+from trackfit.data.calendar import MIN_DATES, irregular_warning, measure_periods_per_year
 from trackfit.data.checks import check_finite, check_positive_prices, missing_by_column
 from trackfit.data.dataset import DataStep, TrackingData
 from trackfit.data.returns import per_period_rate, percent_to_decimal, simple_returns
@@ -87,10 +87,16 @@ def load_tracking_data(
         n_priced=n_priced,
         has_rate=aligned.has_risk_free,
     )
-    if spec.periods_per_year is not None:
-        periods, inferred = spec.periods_per_year, False
+    warnings: list[str] = []
+    inferred = spec.periods_per_year is None
+    calendar = None
+    if inferred or len(window_dates) >= MIN_DATES:  # too few for a set value: the error below
+        calendar = measure_periods_per_year(window_dates)
+    if inferred:
+        periods = calendar.value
+        warnings.extend(w for w in (irregular_warning(calendar),) if w is not None)
     else:
-        periods, inferred = infer_periods_per_year(window_dates), True
+        periods = spec.periods_per_year
 
     gaps = np.isnan(returns).any(axis=1)
     if rate is not None:
@@ -99,7 +105,6 @@ def load_tracking_data(
     steps.append(
         DataStep("dates with a missing value in the fit window", len(keep), int(keep.sum()))
     )
-    warnings: list[str] = []
     where = "; ".join(missing_by_column(missing, raw_dates, aligned.labels))
     if gaps.any():
         why = "; a missing price leaves the returns into and out of its date without a value"
@@ -136,6 +141,7 @@ def load_tracking_data(
         periods_per_year_inferred=inferred,
         steps=tuple(steps),
         warnings=tuple(warnings),
+        calendar=calendar,
     )
 
 
