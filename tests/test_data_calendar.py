@@ -171,3 +171,14 @@ FAILURES = [
 def test_measure_failures(dates, match):
     with pytest.raises(DataError, match=re.escape(match)):
         measure_periods_per_year(_days(dates))
+
+
+def test_years_of_a_weekday_span_agree_with_the_calendar():
+    # A backtest annualizes over m / periods_per_year years; on weekdays from 2022-11-30 to
+    # 2026-11-30 (1461 days, 4.0 Julian years) that must be 4.0 years, not m / 252 = 4.14.
+    days = _days(pd.bdate_range("2020-01-01", "2026-11-30"))
+    rate = measure_periods_per_year(days)
+    assert (rate.value, rate.first_year, rate.last_year) == (261, 2020, 2025)
+    m = int((days > np.datetime64("2022-11-30")).sum())
+    assert m == 1043
+    assert m / rate.value == pytest.approx(1461 / 365.25, rel=1e-3)
