@@ -13,6 +13,7 @@ import numpy as np
 
 from trackfit.core.models import ModelSpec
 from trackfit.core.results import CVCurve, CVResult, FittedWeights, Fold, Scaling
+from trackfit.data.calendar import measure_periods_per_year
 from trackfit.data.dataset import DataStep, TrackingData
 from trackfit.evaluate.holdout import HoldoutStudy, ModelOutcome
 from trackfit.evaluate.metrics import TrackingMetrics
@@ -132,6 +133,7 @@ def make_outcome(root: Path, **changes) -> FitOutcome:
             DataStep("keep the fit window", 25, N_ROWS),
         ),
         warnings=(),
+        calendar=measure_periods_per_year(dates),
     )
     lasso_cv = _cv(
         (_curve(1.0),),

@@ -158,3 +158,53 @@ def test_no_figures_writes_only_the_text_files(tmp_path):
     assert [Path(p).name for p in result.stdout.splitlines()] == list(FILES)
     assert not list(tmp_path.glob("*.png"))
     assert "## Figures" not in (tmp_path / "report.md").read_text()
+
+
+def test_the_demo_reports_the_periods_per_year_it_measured(demo_runs, tmp_path):
+    import pandas as pd
+
+    # reference: pandas bdate_range counts the weekdays of 2025, the fit window's one full year
+    weekdays_2025 = len(pd.bdate_range("2025-01-01", "2025-12-31"))
+    assert weekdays_2025 == 261
+    outs, _ = demo_runs
+    report = (outs[0] / "report.md").read_text()
+    assert (
+        "| Periods per year | 261 (weekdays; measured: 261.0 rows a year over 2025, "
+        "1 full calendar year) |" in report
+    )
+    assert "annualized with 261 periods a year" in report
+    data = json.loads((outs[0] / "summary.json").read_text())["data"]
+    assert data["periods_per_year"] == {
+        "value": 261,
+        "measured": float(weekdays_2025),
+        "source": "measured",
+        "calendar": "weekdays",
+        "rows": weekdays_2025,
+        "full_years": [2025, 2025],
+        "first_date": "2024-01-08",
+        "last_date": "2026-11-30",
+    }
+    job = tmp_path / "demo"
+    shutil.copytree(DEMO, job, ignore=shutil.ignore_patterns("out*"))
+    check = _run("check", job / "job.yaml")
+    assert (
+        "756 rows, periods per year 261 (weekdays; measured: 261.0 rows a year over 2025, "
+        "1 full calendar year)" in check.stdout
+    )
+
+
+def test_a_periods_per_year_set_in_the_job_is_reported_with_the_measurement(tmp_path):
+    _write_returns(tmp_path, DATES)
+    job = _broken_job(tmp_path, MINIMAL + "data: {periods_per_year: 52}\n")
+    result = _run("fit", job, "--out", tmp_path / "out", "--quiet", "--no-warnings-exit")
+    assert result.exit_code == 0, result.stderr
+    summary = json.loads((tmp_path / "out" / "summary.json").read_text())
+    ppy = summary["data"]["periods_per_year"]
+    # 43 intervals over the 325 days from 2026-01-07 to 2026-11-28, no full calendar year
+    assert (ppy["value"], ppy["source"], ppy["full_years"]) == (52, "job", None)
+    assert ppy["measured"] == pytest.approx(43 * 365.25 / 325, rel=1e-11)
+    report = (tmp_path / "out" / "report.md").read_text()
+    assert (
+        "| Periods per year | 52 (set in the job; measured: 48.3 rows a year over 2026-01-07 "
+        "to 2026-11-28, no full calendar year: rows per 365.25 days) |" in report
+    )

@@ -185,7 +185,11 @@ def test_alignment_keeps_common_dates_and_counts_per_file(files):
     idx = pd.read_csv(files / "index.csv", index_col=0)["idx"]
     expected = idx["2020-02-07"] / idx["2020-01-17"] - 1
     rate_0207 = 2 + 0.1 * WEEKS.index("2020-02-07")
-    rf = (1 + rate_0207 / 100) ** (1 / 52) - 1
+    # The rate is measured on the aligned dates: 7 intervals over 63 days with a three-week
+    # hole, 40.6 a year, close to no usual value, so 41 (it was 52 from the median spacing;
+    # this value moved because periods per year are now measured).
+    assert result.periods_per_year == 41 and result.calendar.usual is None
+    rf = (1 + rate_0207 / 100) ** (1 / 41) - 1
     assert result.dates[2] == _d("2020-02-07")
     assert result.benchmark[2] == pytest.approx(expected - rf, rel=1e-12)
 
@@ -677,13 +681,6 @@ LOAD_ERRORS = [
         "only 2 return date(s) are left in the fit window; fitting needs at least 3",
     ),
     (
-        "spacing",
-        _fortnightly,
-        {},
-        None,
-        "median spacing of the fit window's dates (2020-01-17 to 2020-06-05) is 14 calendar days",
-    ),
-    (
         "flat benchmark",
         _constant("index.csv", "idx", "100"),
         {},
@@ -722,6 +719,29 @@ def test_load_errors(files, change, options, as_of, match):
         load_tracking_data(make_job(files, **options), as_of=as_of)
 
 
+def test_an_irregular_calendar_is_measured_and_warned(files):
+    # Fortnightly dates raised a DataError when the value was looked up from the median
+    # spacing; the rate is now measured (10 intervals over 140 days: 26.1 a year), close to no
+    # usual value, used rounded and warned about.
+    _fortnightly(files)
+    result = load_tracking_data(make_job(files))
+    assert (result.periods_per_year, result.periods_per_year_inferred) == (26, True)
+    assert result.calendar.measured == pytest.approx(10 * 365.25 / 140, rel=1e-12)
+    assert result.warnings == (
+        "the fit window's dates (2020-01-17 to 2020-06-05) come at an irregular rate: 26.1 rows "
+        "a year, close to none of 4, 12, 52, 252, 261 or 365; returns and tracking errors are "
+        "annualized with 26 periods a year; set data.periods_per_year if another value is right",
+    )
+
+
+def test_a_value_set_in_the_job_wins_and_the_rate_is_still_measured(files):
+    _fortnightly(files)
+    result = load_tracking_data(make_job(files, periods_per_year=24))
+    assert (result.periods_per_year, result.periods_per_year_inferred) == (24, False)
+    assert (result.calendar.value, result.calendar.usual) == (26, None)
+    assert result.warnings == ()  # the job said what it wants
+
+
 def test_too_few_dates_after_dropping_names_the_cause(files):
     for day in WEEKS[1:10]:
         _blank(files, "stocks.csv", "c", day)
@@ -752,7 +772,10 @@ def test_demo_scenario_loads():
     result = load_tracking_data(job, as_of=date(2026, 11, 30))
     assert len(result.dates) == 756 and result.dates[-1] == _d("2026-11-30")
     assert len(result.names) == 48
-    assert (result.periods_per_year, result.periods_per_year_inferred) == (252, True)
+    # The demo calendar holds every weekday: 261 rows in 2025, the one full year of the
+    # window. This was 252 when the value was looked up from the median spacing.
+    assert (result.periods_per_year, result.periods_per_year_inferred) == (261, True)
+    assert (result.calendar.measured, result.calendar.first_year) == (261.0, 2025)
     assert result.risk_free.min() > 0.5 / 100 / 252 and result.risk_free.max() < 4 / 100 / 252
     assert result.warnings == ()
     # the late listing reaches back into 2019 only, so the whole history needs drop_dates

@@ -196,8 +196,17 @@ def test_summary_json_data_summary(outcome):
     assert data == {
         "benchmark": "NWBI",
         "constituents": 5,
-        "periods_per_year": 12,
-        "periods_per_year_inferred": True,
+        # one object since periods per year are measured (was a number and a flag)
+        "periods_per_year": {
+            "value": 12,
+            "measured": 12.0,
+            "source": "measured",
+            "calendar": "monthly",
+            "rows": 12,
+            "full_years": [2025, 2025],
+            "first_date": "2024-12-31",
+            "last_date": "2026-11-30",
+        },
         "first_date": "2024-12-31",
         "last_date": "2026-11-30",
         "rows": 24,
@@ -330,7 +339,12 @@ def test_markdown_what_was_done(outcome):
     text = render_markdown(outcome)
     assert "| Benchmark | NWBI |" in text
     assert "| Window | 2024-12-31 to 2026-11-30 |" in text
-    assert "| Periods per year | 12 (inferred from the date spacing) |" in text
+    # states what was measured since periods per year are measured (was "inferred from the
+    # date spacing"); the month ends of 2025 are the window's one full calendar year
+    assert (
+        "| Periods per year | 12 (monthly; measured: 12.0 rows a year over 2025, "
+        "1 full calendar year) |" in text
+    )
     assert "| Risk-free rate | subtracted from every return |" in text
     assert "| align benchmark and constituent dates | 26 | 25 | 1 |" in text
     assert "| Choosing and fitting | 18 | 2024-12-31 | 2026-05-31 |" in text

@@ -11,6 +11,7 @@ from trackfit.core.limits import Limits
 from trackfit.core.models import describe_model
 from trackfit.job import load_job
 from trackfit.report.limit_labels import linear_words, worded_linear
+from trackfit.report.periods import periods_words
 
 
 def run_check(job_file: Path, *, as_of: date | None = None) -> list[str]:
@@ -29,8 +30,7 @@ def describe_plan(plan: FitPlan) -> list[str]:
         + (" (excess of the risk-free rate)" if data.risk_free is not None else ""),
         f"constituents: {len(data.names)}",
         f"window: {day(d[0])} to {day(d[-1])}, {len(d)} rows, "
-        f"{data.periods_per_year} periods per year"
-        + (" (inferred from the dates)" if data.periods_per_year_inferred else ""),
+        f"periods per year {periods_words(data)}",
     ]
     lines += [f"  {s.description}: {s.dropped} rows dropped" for s in data.steps]
     lines.append(

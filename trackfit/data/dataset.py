@@ -6,6 +6,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from trackfit.data.calendar import CalendarRate
+
 
 @dataclass(frozen=True)
 class DataStep:
@@ -42,10 +44,14 @@ class TrackingData:
         Per-period risk-free return (decimal) that was subtracted, if any.
     periods_per_year : int
     periods_per_year_inferred : bool
-        True when inferred from the date spacing, False when set in the job.
+        True when measured on the window's dates, False when set in the job.
     steps : tuple of DataStep
         Every step that could drop rows, in order, with counts (zero counts included).
     warnings : tuple of str
+    calendar : CalendarRate or None
+        Rows a year measured on the window's dates (before dates with missing values are left
+        out: those are gaps in the data, not in the calendar), also when the job sets the
+        value; None only for data built by hand.
     """
 
     dates: np.ndarray
@@ -58,3 +64,4 @@ class TrackingData:
     periods_per_year_inferred: bool
     steps: tuple[DataStep, ...]
     warnings: tuple[str, ...]
+    calendar: CalendarRate | None = None

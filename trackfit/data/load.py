@@ -6,7 +6,7 @@ from datetime import date
 
 import numpy as np
 
-from trackfit.data.calendar import MIN_DATES, infer_periods_per_year
+from trackfit.data.calendar import MIN_DATES, irregular_warning, measure_periods_per_year
 from trackfit.data.checks import check_finite, check_positive_prices, missing_by_column
 from trackfit.data.dataset import DataStep, TrackingData
 from trackfit.data.gaps import carry_forward, has_return, short_history
@@ -114,10 +114,15 @@ def load_tracking_data(
         n_priced=n_priced,
         has_rate=aligned.has_risk_free,
     )
-    if spec.periods_per_year is not None:
-        periods, inferred = spec.periods_per_year, False
+    inferred = spec.periods_per_year is None
+    calendar = None
+    if inferred or len(window_dates) >= MIN_DATES:  # too few for a set value: the error below
+        calendar = measure_periods_per_year(window_dates)
+    if inferred:
+        periods = calendar.value
+        warnings.extend(w for w in (irregular_warning(calendar),) if w is not None)
     else:
-        periods, inferred = infer_periods_per_year(window_dates), True
+        periods = spec.periods_per_year
 
     gaps = np.isnan(returns).any(axis=1)
     if rate is not None:
@@ -162,6 +167,7 @@ def load_tracking_data(
         periods_per_year_inferred=inferred,
         steps=tuple(steps),
         warnings=tuple(warnings),
+        calendar=calendar,
     )
 
 

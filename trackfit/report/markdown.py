@@ -17,6 +17,7 @@ from trackfit.report.held import held_model, held_weights
 from trackfit.report.markdown_limits import HEADING as LIMITS_HEADING
 from trackfit.report.markdown_limits import mandate_section
 from trackfit.report.numbers import NOT_AVAILABLE, fixed, percent, row_dates
+from trackfit.report.periods import periods_words
 from trackfit.report.tables import inline, table
 
 #: Section headings, in the order they appear.
@@ -122,9 +123,7 @@ def _what_was_done(outcome: FitOutcome) -> list[str]:
 def _data_and_split(outcome: FitOutcome) -> list[str]:
     data, study = outcome.data, outcome.study
     first, last = row_dates(data.dates, 0, len(data.dates))
-    inferred = data.periods_per_year_inferred
-    source = "inferred from the date spacing" if inferred else "set in the job"
-    ppy = f"{data.periods_per_year} ({source})"
+    ppy = periods_words(data)
     lines = [HEADINGS[0], "", "### Data", ""]
     lines += table(
         ["Item", "Value"],

@@ -20,6 +20,7 @@ from trackfit.report.caution import CAUTION
 from trackfit.report.held import held_weights
 from trackfit.report.numbers import iso_date, json_number, row_dates
 from trackfit.report.paths import relative_path
+from trackfit.report.periods import periods_json
 from trackfit.report.summary_limits import (
     job_holdings,
     job_limits,
@@ -131,8 +132,7 @@ def _data(data: TrackingData) -> dict[str, Any]:
     return {
         "benchmark": data.benchmark_name,
         "constituents": len(data.names),
-        "periods_per_year": data.periods_per_year,
-        "periods_per_year_inferred": data.periods_per_year_inferred,
+        "periods_per_year": periods_json(data),
         "first_date": first,
         "last_date": last,
         "rows": len(data.dates),
