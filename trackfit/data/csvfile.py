@@ -91,15 +91,21 @@ class WideTable:
         if column in self.columns:
             return
         close = difflib.get_close_matches(column, self.columns, n=3, cutoff=0.6)
+        missing, found, where = self._words(column)
         hint = (
             f"close matches: {_quoted(close)}"
             if close
-            else f"columns found: {_quoted(self.columns, limit=12)}"
+            else f"{found} found: {_quoted(self.columns, limit=12)}"
         )
         raise DataError(
-            f"{self.label}: no column {column!r} (named by {key}); {hint}; "
-            "fix the name in the job file or the file's header"
+            f"{self.label}: {missing} (named by {key}); {hint}; "
+            f"fix the name in the job file or {where}"
         )
+
+    def _words(self, column: str) -> tuple[str, str, str]:
+        """For :meth:`require`: the missing series in words, what the file's series are called,
+        and where the file writes their names."""
+        return f"no column {column!r}", "columns", "the file's header"
 
     def numbers(self, column: str) -> np.ndarray:
         """Column ``column`` as float64 of shape (n_rows,), NaN where a cell is missing.

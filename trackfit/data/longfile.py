@@ -16,7 +16,6 @@ so the same text gives the same bits in either layout.
 
 from __future__ import annotations
 
-import difflib
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -46,20 +45,9 @@ class LongTable(WideTable):
 
     name_column: str = "name"
 
-    def require(self, column: str, key: str) -> None:
-        """Raise DataError unless ``column`` is one of the file's names."""
-        if column in self.columns:
-            return
-        close = difflib.get_close_matches(column, self.columns, n=3, cutoff=0.6)
-        hint = (
-            f"close matches: {_quoted(close)}"
-            if close
-            else f"names found: {_quoted(self.columns, limit=12)}"
-        )
-        raise DataError(
-            f"{self.label}: no series named {column!r} in column {self.name_column!r} (named "
-            f"by {key}); {hint}; fix the name in the job file or in the file"
-        )
+    def _words(self, column: str) -> tuple[str, str, str]:
+        missing = f"no series named {column!r} in column {self.name_column!r}"
+        return missing, "names", "in the file"
 
 
 def read_long_csv(
