@@ -93,9 +93,9 @@ class WideTable:
         close = difflib.get_close_matches(column, self.columns, n=3, cutoff=0.6)
         missing, found, where = self._words(column)
         hint = (
-            f"close matches: {_quoted(close)}"
+            f"close matches: {quoted(close)}"
             if close
-            else f"{found} found: {_quoted(self.columns, limit=12)}"
+            else f"{found} found: {quoted(self.columns, limit=12)}"
         )
         raise DataError(
             f"{self.label}: {missing} (named by {key}); {hint}; "
@@ -158,12 +158,12 @@ def read_wide_csv(
         File missing or unreadable, empty, malformed, no date column, blank or repeated
         column names, an unreadable date, or a date given twice.
     """
-    _check_file(path, label)
+    check_file(path, label)
     quick = _read_numbers(path, date_column, date_format, label)
     return quick if quick is not None else _read_texts(path, date_column, date_format, label)
 
 
-def _check_file(path: Path, label: str) -> None:
+def check_file(path: Path, label: str) -> None:
     if not path.is_file():
         what = "is a folder, not a file" if path.is_dir() else "does not exist"
         raise DataError(
@@ -211,8 +211,8 @@ def _read_numbers(
     if _zero_sign_unsure(values):
         return None
     lines = np.arange(2, len(text) + 2)
-    dates = _parse_dates(pd.Series(text, dtype=str), lines, date_format, label, date_column)
-    _check_unique(dates, label)
+    dates = parse_dates(pd.Series(text, dtype=str), lines, date_format, label, date_column)
+    check_unique(dates, label)
     order = np.argsort(dates, kind="stable")
     if np.any(order != np.arange(len(order))):
         values, lines = values[order], lines[order]
@@ -256,23 +256,23 @@ def _read_inferred(pd, path: Path, dtype: dict | None) -> pd.DataFrame:
 
 def _read_texts(path: Path, date_column: str, date_format: str | None, label: str) -> WideTable:
     """The careful read: every cell kept as stripped text."""
-    raw = _read_text_table(path, label).fillna("").astype(str)
+    raw = read_text_table(path, label).fillna("").astype(str)
     header = [name.strip() for name in raw.iloc[0]]
     body = raw.iloc[1:].apply(lambda col: col.str.strip())
     lines = np.arange(2, len(raw) + 1)
     keep = (body != "").any(axis=1).to_numpy()  # blank lines are not rows
     body, lines = body[keep], lines[keep]
-    _check_header(header, label)
+    check_header(header, label)
     if date_column not in header:
         raise DataError(
             f"{label}: no date column {date_column!r}; columns found: "
-            f"{_quoted(header, limit=12)}; set data.date_column to the name of the date column"
+            f"{quoted(header, limit=12)}; set data.date_column to the name of the date column"
         )
     if body.empty:
         raise DataError(f"{label}: the file has a header but no data rows; add one row per date")
     body.columns = header
-    dates = _parse_dates(body[date_column], lines, date_format, label, date_column)
-    _check_unique(dates, label)
+    dates = parse_dates(body[date_column], lines, date_format, label, date_column)
+    check_unique(dates, label)
     order = np.argsort(dates, kind="stable")
     columns = tuple(name for name in header if name != date_column)
     cells = body[list(columns)].iloc[order].reset_index(drop=True)
@@ -286,7 +286,7 @@ def _read_texts(path: Path, date_column: str, date_format: str | None, label: st
     )
 
 
-def _read_text_table(path: Path, label: str) -> pd.DataFrame:
+def read_text_table(path: Path, label: str) -> pd.DataFrame:
     import pandas as pd
 
     try:
@@ -307,7 +307,7 @@ def _read_text_table(path: Path, label: str) -> pd.DataFrame:
         raise DataError(f"{label}: cannot read the file ({err.strerror})") from None
 
 
-def _check_header(header: list[str], label: str) -> None:
+def check_header(header: list[str], label: str) -> None:
     blank = [i + 1 for i, name in enumerate(header) if not name]
     if blank:
         raise DataError(
@@ -316,12 +316,12 @@ def _check_header(header: list[str], label: str) -> None:
     twice = sorted(name for name, count in Counter(header).items() if count > 1)
     if twice:
         raise DataError(
-            f"{label}: column name {_quoted(twice)} appears more than once in the header; "
+            f"{label}: column name {quoted(twice)} appears more than once in the header; "
             "column names must be unique"
         )
 
 
-def _parse_dates(
+def parse_dates(
     text: pd.Series, lines: np.ndarray, date_format: str | None, label: str, column: str
 ) -> np.ndarray:
     import pandas as pd
@@ -355,7 +355,7 @@ def _parse_dates(
     return parsed.to_numpy().astype("datetime64[D]")
 
 
-def _check_unique(dates: np.ndarray, label: str) -> None:
+def check_unique(dates: np.ndarray, label: str) -> None:
     values, counts = np.unique(dates, return_counts=True)
     repeated = values[counts > 1]
     if repeated.size:
@@ -367,7 +367,7 @@ def _check_unique(dates: np.ndarray, label: str) -> None:
         )
 
 
-def _quoted(names, limit: int | None = None) -> str:
+def quoted(names, limit: int | None = None) -> str:
     names = list(names)
     shown = ", ".join(repr(n) for n in names[:limit])
     if limit is not None and len(names) > limit:

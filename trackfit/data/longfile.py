@@ -24,10 +24,10 @@ import numpy as np
 from trackfit.data.csvfile import (
     MISSING_TOKENS,
     WideTable,
-    _check_header,
-    _parse_dates,
-    _quoted,
-    _read_text_table,
+    check_header,
+    parse_dates,
+    quoted,
+    read_text_table,
 )
 from trackfit.errors import DataError
 from trackfit.jobfile.specs import FileLayout
@@ -84,13 +84,13 @@ def read_long_csv(
             f"{date_column!r}, {layout.name_column!r} and {layout.value_column!r}, then one line "
             "per date and series"
         )
-    raw = _read_text_table(path, label).fillna("").astype(str)
+    raw = read_text_table(path, label).fillna("").astype(str)
     header = [name.strip() for name in raw.iloc[0]]
     body = raw.iloc[1:].apply(lambda col: col.str.strip())
     lines = np.arange(2, len(raw) + 1)
     keep = (body != "").any(axis=1).to_numpy()  # blank lines are not rows
     body, lines = body[keep], lines[keep]
-    _check_header(header, label)
+    check_header(header, label)
     for column, key in (
         (date_column, "data.date_column"),
         (layout.name_column, "name_column"),
@@ -99,14 +99,14 @@ def read_long_csv(
         if column not in header:
             raise DataError(
                 f"{label}: no column {column!r} in this long file; columns found: "
-                f"{_quoted(header, limit=12)}; set the source's {key} to the column's name"
+                f"{quoted(header, limit=12)}; set the source's {key} to the column's name"
             )
     if body.empty:
         raise DataError(
             f"{label}: the file has a header but no data rows; add one line per date and series"
         )
     body.columns = header
-    dates = _parse_dates(body[date_column], lines, date_format, label, date_column)
+    dates = parse_dates(body[date_column], lines, date_format, label, date_column)
     names = body[layout.name_column].to_numpy(dtype=object)
     blank = np.flatnonzero(names == "")
     if blank.size:

@@ -13,7 +13,7 @@ from pathlib import Path
 
 import numpy as np
 
-from trackfit.data.csvfile import WideTable, _check_unique, _parse_dates, _quoted
+from trackfit.data.csvfile import WideTable, check_unique, parse_dates, quoted
 from trackfit.data.longfile import pivot_long
 from trackfit.errors import DataError
 from trackfit.jobfile.specs import FileLayout
@@ -90,7 +90,7 @@ def read_parquet(
     twice = sorted({name for name in header if header.count(name) > 1})
     if twice:
         raise DataError(
-            f"{label}: column name {_quoted(twice)} appears more than once; column names must "
+            f"{label}: column name {quoted(twice)} appears more than once; column names must "
             "be unique"
         )
     needed = [(date_column, "data.date_column")]
@@ -99,7 +99,7 @@ def read_parquet(
     for column, key in needed:
         if column not in header:
             raise DataError(
-                f"{label}: no column {column!r}; columns found: {_quoted(header, limit=12)}; "
+                f"{label}: no column {column!r}; columns found: {quoted(header, limit=12)}; "
                 f"set the source's {key} to the column's name"
             )
     if data.num_rows == 0:
@@ -116,7 +116,7 @@ def read_parquet(
             )
         values = _floats(pa, column)
         return pivot_long(path, label, dates, names, values, rows, "row", layout.name_column)
-    _check_unique(dates, label)
+    check_unique(dates, label)
     order = np.argsort(dates, kind="stable")
     columns = tuple(name for name in header if name != date_column)
     values = np.full((len(dates), len(columns)), np.nan, order="F")
@@ -166,7 +166,7 @@ def _dates(pa, column, rows, date_format, label: str, name: str) -> np.ndarray:
         raise DataError(f"{label}: row {row} has no date in column {name!r}; give every row a date")
     if pa.types.is_string(kind) or pa.types.is_large_string(kind):
         text = pd.Series(column.to_pylist(), dtype=object).str.strip()
-        return _parse_dates(text, rows, date_format, label, name)
+        return parse_dates(text, rows, date_format, label, name)
     if pa.types.is_date(kind) or pa.types.is_timestamp(kind):
         stamps = pd.to_datetime(pd.Series(column.to_pandas()))
         if stamps.dt.tz is not None:  # keep the local calendar date, as a CSV %z date does

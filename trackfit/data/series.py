@@ -8,7 +8,7 @@ from pathlib import Path
 
 import numpy as np
 
-from trackfit.data.csvfile import WideTable, _check_file, read_wide_csv
+from trackfit.data.csvfile import WideTable, check_file, read_wide_csv
 from trackfit.data.dataset import DataStep
 from trackfit.data.longfile import LongTable, read_long_csv
 from trackfit.data.parquetfile import read_parquet
@@ -166,7 +166,7 @@ def read_table(
         :func:`~trackfit.data.longfile.read_long_csv` and
         :func:`~trackfit.data.parquetfile.read_parquet`.
     """
-    _check_file(path, label)
+    check_file(path, label)
     options = {"date_column": date_column, "date_format": date_format, "label": label}
     if layout.format == "parquet":
         return read_parquet(path, layout=layout, **options)
