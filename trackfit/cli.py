@@ -1,7 +1,7 @@
 """The command line: parse, call one function of :mod:`trackfit.commands`, turn errors into exit codes.
 
 Exit codes: 0 success; 1 success, but the weights were produced with warnings (printed on
-stderr unless --quiet, and kept in the report); 2 the job, the data or the command line needs
+stderr unless --quiet, and kept in the report), or for ``check`` fit would warn; 2 the job, the data or the command line needs
 fixing; 3 a fit could not reach the required accuracy; 4 an internal error (a bug in trackfit:
 please report it); 5 another run holds the lock on the output folder. Cron can alert on any
 non-zero code. Data (paths of files written) go to stdout; progress, warnings and errors go to
