@@ -1,7 +1,7 @@
 """The command line: parse, call one function of :mod:`trackfit.commands`, turn errors into exit codes.
 
 Exit codes: 0 success; 1 success, but the weights were produced with warnings (printed on
-stderr unless --quiet, and kept in the report); 2 the job, the data or the command line needs
+stderr unless --quiet, and kept in the report), or for ``check`` fit would warn; 2 the job, the data or the command line needs
 fixing; 3 a fit could not reach the required accuracy; 4 an internal error (a bug in trackfit:
 please report it); 5 another run holds the lock on the output folder. Cron can alert on any
 non-zero code. Data (paths of files written) go to stdout; progress, warnings and errors go to
@@ -134,13 +134,13 @@ _FIGURES = click.option(
 FIT_WARNINGS_EXIT = True
 
 
-def _warnings_exit(default: bool):
+def _warnings_exit(default: bool, when: str = "the files were written but with warnings"):
     return click.option(
         "--warnings-exit/--no-warnings-exit",
         default=default,
         show_default=True,
-        help="Exit with code 1 (instead of 0) when the files were written but with warnings, "
-        "so cron can alert on any non-zero code.",
+        help=f"Exit with code 1 (instead of 0) when {when}, so cron can alert on any non-zero "
+        "code.",
     )
 
 
@@ -322,14 +322,23 @@ def diff(old: Path, new: Path, fmt: str, out_file: Path | None) -> None:
 @main.command()
 @_JOB
 @_AS_OF
-def check(job: Path, as_of: date | None) -> None:
-    """Validate the job and its data and say what would be fitted; write nothing."""
+@_warnings_exit(True, when="fit would warn")
+@click.pass_context
+def check(ctx, job: Path, as_of: date | None, warnings_exit: bool) -> None:
+    """Validate the job and its data and say what would be fitted; write nothing.
+
+    The plan, the data screen's findings and the warnings go to stdout. Exit code 1 means
+    fit would warn (a data, limit or design warning, or a finding that warns or leaves dates
+    out; --no-warnings-exit makes that 0); 2 means the job or data need fixing, as for fit.
+    """
 
     def work():
-        for line in run_check(job, as_of=as_of):
+        checked = run_check(job, as_of=as_of)
+        for line in checked.lines:
             click.echo(line)
+        return EXIT_WARNINGS if checked.warned and warnings_exit else 0
 
-    _guarded(work)
+    ctx.exit(_guarded(work))
 
 
 def _no_huge_pages() -> None:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from datetime import date
 from pathlib import Path
 
@@ -10,13 +11,40 @@ from trackfit.commands.prepare import day, prepare
 from trackfit.core.limits import Limits
 from trackfit.core.models import describe_model
 from trackfit.job import load_job
+from trackfit.report.data_quality import screen_lines
 from trackfit.report.limit_labels import linear_words, worded_linear
 from trackfit.report.periods import periods_words
 
 
-def run_check(job_file: Path, *, as_of: date | None = None) -> list[str]:
-    """``trackfit check``: the lines that say what ``trackfit fit`` would do."""
-    return describe_plan(plan_fit(prepare(load_job(job_file), as_of)))
+@dataclass(frozen=True)
+class Checked:
+    """What ``trackfit check`` found.
+
+    Attributes
+    ----------
+    lines : tuple of str
+        What ``trackfit fit`` would do, one line each, findings and warnings last.
+    warned : bool
+        True when ``fit`` would warn: a warning of the data, the limits or the design, or a
+        screen finding that warns or leaves dates out.
+    """
+
+    lines: tuple[str, ...]
+    warned: bool
+
+
+def run_check(job_file: Path, *, as_of: date | None = None) -> Checked:
+    """``trackfit check``: say what ``trackfit fit`` would do, and whether it would warn.
+
+    Raises
+    ------
+    JobError, DataError
+        As ``fit`` would, during the one preparation step (a screen that stops is a DataError).
+    """
+    plan = plan_fit(prepare(load_job(job_file), as_of))
+    screen = plan.prepared.data.screen
+    warned = bool(plan.warnings) or (screen is not None and bool(screen.warnings))
+    return Checked(lines=tuple(describe_plan(plan)), warned=warned)
 
 
 def describe_plan(plan: FitPlan) -> list[str]:
@@ -58,6 +86,7 @@ def describe_plan(plan: FitPlan) -> list[str]:
     if holdings is not None:
         held = int((holdings.weights != 0).sum())
         lines.append(f"current holdings: {held} names held ({len(holdings.names)} listed)")
+    lines += screen_lines(data.screen)
     lines += [f"note: {n}" for n in plan.notes]
     lines += [f"warning: {w}" for w in plan.warnings]
     return lines

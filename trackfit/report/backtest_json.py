@@ -7,7 +7,7 @@ from typing import Any
 import trackfit
 from trackfit.outcomes.backtest import BacktestOutcome
 from trackfit.report.caution import CAUTION
-from trackfit.report.summary_json import dump_json
+from trackfit.report.summary_json import dump_json, screen_tree
 
 
 def render_backtest_json(outcome: BacktestOutcome) -> str:
@@ -39,6 +39,7 @@ def render_backtest_json(outcome: BacktestOutcome) -> str:
             "first": o.dates[0],
             "last": o.dates[-1],
         },
+        **screen_tree(o.data),
         "out_of_sample": {
             "periods": len(r.portfolio),
             "first": o.period_dates[0],

@@ -6,6 +6,7 @@ from collections.abc import Sequence
 
 from trackfit.outcomes.backtest import BacktestOutcome
 from trackfit.report.caution import CAUTION
+from trackfit.report.data_quality import quality_section
 from trackfit.report.markdown import figures_section
 from trackfit.report.numbers import fixed, iso_date, percent
 from trackfit.report.tables import inline, table
@@ -45,9 +46,11 @@ def render_backtest_markdown(
     first, last = iso_date(outcome.dates[0]), iso_date(outcome.dates[-1])
     lines = [f"# {inline(outcome.job.name)}: backtest, {first} to {last}", ""]
     lines += [f"> {inline(CAUTION)}", ""]
-    for section in (_schedule, _tracking, _rebalances, _names, _notes, _warnings):
-        lines += section(outcome)
-        lines.append("")
+    for section in (_schedule, _quality, _tracking, _rebalances, _names, _notes, _warnings):
+        part = section(outcome)
+        if part:  # the data-quality section is absent when no screen ran
+            lines += part
+            lines.append("")
     lines += figures_section(tuple(figures or ()), figures_skipped)
     return "\n".join(lines).rstrip("\n") + "\n"
 
@@ -87,6 +90,10 @@ def _schedule(o: BacktestOutcome) -> list[str]:
         f"{iso_date(o.period_dates[0])} to {iso_date(o.period_dates[-1])} "
         f"({fixed(r.years, '.2f')} years, {r.periods_per_year} periods a year); total returns.",
     ]
+
+
+def _quality(o: BacktestOutcome) -> list[str]:
+    return quality_section(o.data.screen, level=2)
 
 
 def _tracking(o: BacktestOutcome) -> list[str]:

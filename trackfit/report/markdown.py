@@ -13,6 +13,7 @@ from trackfit.evaluate.holdout import ModelOutcome
 from trackfit.evaluate.metrics import TrackingMetrics
 from trackfit.outcomes.fit import FitOutcome
 from trackfit.report.caution import CAUTION
+from trackfit.report.data_quality import quality_section
 from trackfit.report.held import held_model, held_weights
 from trackfit.report.markdown_limits import HEADING as LIMITS_HEADING
 from trackfit.report.markdown_limits import mandate_section
@@ -152,6 +153,9 @@ def _data_and_split(outcome: FitOutcome) -> list[str]:
         )
     else:
         lines.append("No cleaning steps were needed.")
+    quality = quality_section(data.screen, level=3)
+    if quality:
+        lines += [""] + quality
 
     train = row_dates(data.dates, 0, study.n_train)
     hold = row_dates(data.dates, study.n_train, study.n_train + study.n_holdout)

@@ -17,6 +17,7 @@ from trackfit.evaluate.metrics import TrackingMetrics
 from trackfit.job import Job
 from trackfit.outcomes.fit import FitOutcome
 from trackfit.report.caution import CAUTION
+from trackfit.report.data_quality import quality_json
 from trackfit.report.held import held_weights
 from trackfit.report.numbers import iso_date, json_number, row_dates
 from trackfit.report.paths import relative_path
@@ -56,6 +57,7 @@ def render_summary_json(outcome: FitOutcome) -> str:
         "job": _job(outcome.job),
         "as_of": outcome.as_of,
         "data": _data(data),
+        **screen_tree(data),
         "split": {
             "n_train": study.n_train,
             "n_holdout": study.n_holdout,
@@ -72,6 +74,12 @@ def render_summary_json(outcome: FitOutcome) -> str:
         "warnings": list(outcome.warnings),
     }
     return dump_json(tree)
+
+
+def screen_tree(data: TrackingData) -> dict[str, Any]:
+    """``{"data_quality": ...}`` when a screen ran, else empty, so summaries without one keep
+    their bytes."""
+    return {} if data.screen is None else {"data_quality": quality_json(data.screen)}
 
 
 def _job(job: Job) -> dict[str, Any]:
