@@ -7,6 +7,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from trackfit.data.calendar import CalendarRate
+from trackfit.data.screen import Screen
 
 
 @dataclass(frozen=True)
@@ -52,6 +53,8 @@ class TrackingData:
         Rows a year measured on the window's dates (before dates with missing values are left
         out: those are gaps in the data, not in the calendar), also when the job sets the
         value; None only for data built by hand.
+    screen : Screen or None
+        What the data screen found and left out; None when it was not run (data built by hand).
     """
 
     dates: np.ndarray
@@ -65,3 +68,4 @@ class TrackingData:
     steps: tuple[DataStep, ...]
     warnings: tuple[str, ...]
     calendar: CalendarRate | None = None
+    screen: Screen | None = None
