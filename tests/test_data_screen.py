@@ -272,5 +272,7 @@ def test_indtrack2_leave_out_brings_the_holdout_tracking_error_down(tmp_path):
 def test_screen_record_on_the_tracking_data():
     from trackfit.data.screen import Screen
 
-    s = Screen(findings=(), left_out=(date(2031, 1, 6),), rows_before=10, rows_after=9, names_kept=3)
+    s = Screen(
+        findings=(), left_out=(date(2031, 1, 6),), rows_before=10, rows_after=9, names_kept=3
+    )
     assert s.warnings == ()

@@ -315,7 +315,11 @@ def _moves(r: np.ndarray, days, name: str, spec: ScreenSpec) -> list[Finding]:
         size = f"{r[t]:+.2%} ({z[t]:.1f} robust spreads)"
         step = logs[t]
         back = logs[t + 1] if t + 1 < len(r) else np.nan
-        if np.isfinite(step) and np.isfinite(back) and abs(step + back) <= (1 - REVERSAL) * abs(step):
+        if (
+            np.isfinite(step)
+            and np.isfinite(back)
+            and abs(step + back) <= (1 - REVERSAL) * abs(step)
+        ):
             dates = (days[t], days[t + 1])
             action, did = _did(spec, "spike", dates)
             message = (
