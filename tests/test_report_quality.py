@@ -148,8 +148,10 @@ def fit_outcome(tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def backtest_outcome(tmp_path_factory):
+    # A real backtest screens its data; the tests here start from one whose screen did not run
+    # and attach hand-built screens to it.
     folder = tmp_path_factory.mktemp("quality_backtest")
-    return run_backtest_job(load_job(write_small_job(folder)))
+    return _with_screen(run_backtest_job(load_job(write_small_job(folder))), None)
 
 
 @pytest.mark.parametrize("case, screen, tail, check_lines", CASES, ids=IDS)

@@ -29,6 +29,7 @@ from trackfit.jobfile.models import (
 )
 from trackfit.jobfile.reading import check_nodes as _check_nodes
 from trackfit.jobfile.reading import read_yaml
+from trackfit.jobfile.screen import parse_screen
 from trackfit.jobfile.sections import (
     DEFAULT_OUTPUT_DIRECTORY,
     MISSING,
@@ -59,6 +60,7 @@ from trackfit.jobfile.specs import (
     LimitsSpec,
     OutputSpec,
     RiskFreeSpec,
+    ScreenSpec,
     SeriesRef,
     WindowSpec,
 )
@@ -86,6 +88,7 @@ __all__ = [
     "LimitsSpec",
     "OutputSpec",
     "RiskFreeSpec",
+    "ScreenSpec",
     "SeriesRef",
     "WindowSpec",
     "load_job",
@@ -106,6 +109,7 @@ _TOP_KEYS = (
     "limits",
     "holdings",
     "backtest",
+    "screen",
 )
 
 
@@ -152,4 +156,5 @@ def load_job(path: str | Path) -> Job:
         limits=parse_limits(r, raw.get("limits")),
         holdings=parse_holdings(r, raw.get("holdings")),
         backtest=parse_backtest(r, raw.get("backtest"), window),
+        screen=parse_screen(r, raw.get("screen")),
     )

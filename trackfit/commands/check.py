@@ -88,7 +88,8 @@ def describe_plan(plan: FitPlan) -> list[str]:
         lines.append(f"current holdings: {held} names held ({len(holdings.names)} listed)")
     lines += screen_lines(data.screen)
     lines += [f"note: {n}" for n in plan.notes]
-    lines += [f"warning: {w}" for w in plan.warnings]
+    said = {f.message for f in data.screen.findings} if data.screen is not None else set()
+    lines += [f"warning: {w}" for w in plan.warnings if w not in said]  # findings said above
     return lines
 
 

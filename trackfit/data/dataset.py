@@ -54,7 +54,7 @@ class TrackingData:
         out: those are gaps in the data, not in the calendar), also when the job sets the
         value; None only for data built by hand.
     screen : Screen or None
-        What the data screen found and left out; None when no screen ran.
+        What the data screen found and left out; None when it was not run (data built by hand).
     """
 
     dates: np.ndarray

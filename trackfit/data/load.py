@@ -11,6 +11,7 @@ from trackfit.data.checks import check_finite, check_positive_prices, missing_by
 from trackfit.data.dataset import DataStep, TrackingData
 from trackfit.data.gaps import carry_forward, has_return, short_history
 from trackfit.data.returns import per_period_rate, percent_to_decimal, simple_returns
+from trackfit.data.screen import Screen, enforce, screen_returns
 from trackfit.data.series import AlignedSeries, align_series
 from trackfit.data.window import select_window
 from trackfit.errors import DataError
@@ -89,6 +90,7 @@ def load_tracking_data(
     window_dates = return_dates[window.start : window.stop]
 
     labels, names = aligned.labels, aligned.names
+    sources = aligned.sources or labels
     if spec.min_coverage is not None:
         present = has_return(raw[:, :n_priced], prices=prices)
         out = short_history(present, window_dates, labels[:n_priced], spec.min_coverage, warnings)
@@ -96,6 +98,7 @@ def load_tracking_data(
             columns = np.delete(np.arange(raw.shape[1]), out)
             raw = raw[:, columns]
             labels = tuple(labels[c] for c in columns)
+            sources = tuple(sources[c] for c in columns)
             names = tuple(names[c - 1] for c in columns[1 : n_priced - out.size])
             n_priced -= out.size
     missing = np.isnan(raw)
@@ -147,12 +150,34 @@ def load_tracking_data(
             f"fitting needs at least {MIN_DATES}; widen the window or fill the missing values"
         )
 
+    rate = None if rate is None else rate[keep]
+    screen_rows = len(window_dates)
+    findings = screen_returns(
+        returns,
+        window_dates,
+        sources[:n_priced],
+        job.screen,
+        values=spec.values,
+        returns_unit=spec.returns_unit,
+        periods_per_year=periods,
+    )
+    left_out = enforce(findings)
+    warnings.extend(f.message for f in findings)
+    if left_out:
+        stay = ~np.isin(window_dates, np.array(left_out, dtype="datetime64[D]"))
+        returns, window_dates = returns[stay], window_dates[stay]
+        rate = None if rate is None else rate[stay]
+        if len(window_dates) < MIN_DATES:
+            raise DataError(
+                f"only {len(window_dates)} return date(s) are left in the fit window after the "
+                f"data screen left out {len(left_out)}; fitting needs at least {MIN_DATES}; "
+                "fix the flagged values in the files or set those screen actions to warn"
+            )
+
     risk_free = None
     if rate is not None:
         rf = job.risk_free
-        risk_free = per_period_rate(
-            rate[keep], unit=rf.unit, quote=rf.quote, periods_per_year=periods
-        )
+        risk_free = per_period_rate(rate, unit=rf.unit, quote=rf.quote, periods_per_year=periods)
     excess = returns if risk_free is None else returns - risk_free[:, None]
     kept = _varying_columns(returns, excess, window_dates, labels, warnings)
 
@@ -168,6 +193,13 @@ def load_tracking_data(
         steps=tuple(steps),
         warnings=tuple(warnings),
         calendar=calendar,
+        screen=Screen(
+            findings=findings,
+            left_out=left_out,
+            rows_before=screen_rows,
+            rows_after=len(window_dates),
+            names_kept=len(kept),
+        ),
     )
 
 

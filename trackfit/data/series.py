@@ -39,6 +39,8 @@ class AlignedSeries:
         How messages name each column of ``values``: ``'name' (file)``.
     steps : tuple of DataStep
         One alignment step per file, in the order the job names the files.
+    sources : tuple of str, length n_series
+        How the data screen names each column: ``file: name``.
     """
 
     dates: np.ndarray
@@ -48,6 +50,7 @@ class AlignedSeries:
     has_risk_free: bool
     labels: tuple[str, ...]
     steps: tuple[DataStep, ...]
+    sources: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -135,6 +138,7 @@ def align_series(job: Job) -> AlignedSeries:
         has_risk_free=rf is not None,
         labels=tuple(f"{p.column!r} ({p.table.label})" for p in columns),
         steps=steps,
+        sources=tuple(f"{p.table.label}: {p.column}" for p in columns),
     )
 
 

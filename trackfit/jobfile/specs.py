@@ -150,6 +150,38 @@ class HoldingsSpec:
 
 
 @dataclass(frozen=True)
+class ScreenSpec:
+    """What the data screen does with each kind of finding, and its thresholds.
+
+    Each action is "stop" (a DataError before any fit), "warn" (a data warning; fit anyway) or
+    "leave_out" (drop the flagged dates from every fit and metric; not for ``units``).
+    """
+
+    units: str = "stop"
+    spikes: str = "warn"
+    jumps: str = "warn"
+    benchmark: str = "warn"
+    stale: str = "warn"
+    jump_mads: float = 20.0  # robust spreads a one-period move must exceed to be a spike or jump
+    benchmark_mads: float = 8.0  # robust spreads of the leave-one-out benchmark residual
+    stale_periods: int = 5  # longest run of exactly unchanged prices that passes
+
+    def action(self, kind: str) -> str:
+        """The action for a finding kind ("units", "spike", "jump", "benchmark", "stale")."""
+        return getattr(self, SCREEN_ACTION_KEYS[kind])
+
+
+#: finding kind -> the ``screen`` key holding its action
+SCREEN_ACTION_KEYS = {
+    "units": "units",
+    "spike": "spikes",
+    "jump": "jumps",
+    "benchmark": "benchmark",
+    "stale": "stale",
+}
+
+
+@dataclass(frozen=True)
 class Job:
     """One validated job file; every path absolute, every collection a tuple."""
 
@@ -168,6 +200,7 @@ class Job:
     limits: LimitsSpec = LimitsSpec()
     holdings: HoldingsSpec | None = None
     backtest: BacktestSpec | None = None
+    screen: ScreenSpec = ScreenSpec()
 
 
 @dataclass(frozen=True)

@@ -72,7 +72,8 @@ def screen_lines(screen: Screen | None) -> list[str]:
     ]
     if screen.left_out:
         lines.append("  dates left out: " + ", ".join(iso_date(d) for d in screen.left_out))
-    lines += [f"finding: {finding_line(f)}" for f in screen.findings]
+    # The finding's own message: it says by how much and what the move looks like.
+    lines += [f"finding: {f.message or finding_line(f)}" for f in screen.findings]
     return lines
 
 
