@@ -169,9 +169,13 @@ def screen_returns(
     found = _units(returns, days, series, spec, values, returns_unit, periods_per_year)
     if not found:
         flat = np.ptp(returns, axis=0) == 0  # left out by the loader with its own warning
+        # Every series' robust spread at once, as robust_spread gives it one by one.
+        centers = np.median(returns, axis=0)
+        spreads = MAD_SCALE * np.median(np.abs(returns - centers), axis=0)
         moves: list[Finding] = []
         for j in np.flatnonzero(~flat):
-            moves += _moves(returns[:, j], days, series[j], spec)
+            center, spread = float(centers[j]), float(spreads[j])
+            moves += _moves(returns[:, j], days, series[j], spec, center, spread)
             found += _stale(returns[:, j], days, series[j], spec)
         found += moves
         found += _benchmark(returns, flat, days, series, spec, moves)
@@ -298,19 +302,24 @@ def _units(returns, days, series, spec, values, unit, periods) -> list[Finding]:
     return found
 
 
-def _moves(r: np.ndarray, days, name: str, spec: ScreenSpec) -> list[Finding]:
-    center, spread = robust_spread(r)
+def _moves(
+    r: np.ndarray, days, name: str, spec: ScreenSpec, center: float, spread: float
+) -> list[Finding]:
     if spread == 0.0 or len(r) < MIN_ROWS:
         return []  # mostly unchanged (the stale check speaks for it), or too few rows
     z = np.abs(r - center) / spread
     with np.errstate(divide="ignore", invalid="ignore"):
         logs = np.log1p(r)
     found = []
-    t = 0
-    while t < len(r):
+    # Only moves past the lowest threshold can be findings: test those alone (one name's
+    # series is a few thousand rows, the candidates a handful).
+    lowest = spec.jump_mads * min(SPLIT_SHARE, 1.0)
+    after_spike = -1
+    for t in np.flatnonzero(z > lowest).tolist():
+        if t == after_spike:  # the return that undid a spike belongs to it
+            continue
         limit = spec.jump_mads * (SPLIT_SHARE if split_ratio(1.0 + r[t]) else 1.0)
         if z[t] <= limit:
-            t += 1
             continue
         size = f"{r[t]:+.2%} ({z[t]:.1f} robust spreads)"
         step = logs[t]
@@ -327,7 +336,7 @@ def _moves(r: np.ndarray, days, name: str, spec: ScreenSpec) -> list[Finding]:
                 f"({r[t + 1]:+.2%}), as a bad print is; {did}"
             )
             found.append(Finding("spike", name, dates, float(r[t]), action, message))
-            t += 2
+            after_spike = t + 1
             continue
         dates = (days[t],)
         ratio = split_ratio(1.0 + r[t])
@@ -337,7 +346,6 @@ def _moves(r: np.ndarray, days, name: str, spec: ScreenSpec) -> list[Finding]:
         if ratio:
             message += "; adjust the prices for it"
         found.append(Finding("jump", name, dates, float(r[t]), action, message))
-        t += 1
     return found
 
 
