@@ -115,12 +115,8 @@ class WideTable:
         """
         if self.values is not None:
             return self.values[:, self._positions[column]]
-        import pandas as pd
-
         text = self.cells[column]
-        values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=np.float64)
-        missing = text.isin(MISSING_TOKENS).to_numpy()
-        bad = np.flatnonzero(np.isnan(values) & ~missing)
+        values, bad = cells_to_numbers(text)
         if bad.size:
             i = bad[0]
             more = f" ({bad.size} such cells in the column)" if bad.size > 1 else ""
@@ -129,7 +125,28 @@ class WideTable:
                 f"{self.dates[i]}): {text.iloc[i]!r} is not a number{more}; write plain numbers "
                 "with '.' as the decimal separator, or leave the cell empty for a missing value"
             )
-        return np.where(missing, np.nan, values)
+        return values
+
+
+def cells_to_numbers(text) -> tuple[np.ndarray, np.ndarray]:
+    """Cells of text as float64 (missing markers as NaN), and the positions of the cells that
+    are neither a number nor a missing marker.
+
+    Parameters
+    ----------
+    text : pandas.Series of str
+
+    Returns
+    -------
+    values : ndarray of shape (n_cells,)
+    bad : ndarray of int
+    """
+    import pandas as pd
+
+    values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=np.float64)
+    missing = text.isin(MISSING_TOKENS).to_numpy()
+    bad = np.flatnonzero(np.isnan(values) & ~missing)
+    return np.where(missing, np.nan, values), bad
 
 
 def read_wide_csv(

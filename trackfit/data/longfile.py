@@ -22,8 +22,8 @@ from pathlib import Path
 import numpy as np
 
 from trackfit.data.csvfile import (
-    MISSING_TOKENS,
     WideTable,
+    cells_to_numbers,
     check_header,
     parse_dates,
     quoted,
@@ -120,11 +120,7 @@ def read_long_csv(
 
 
 def _numbers(text, lines, dates, names, label: str, layout: FileLayout) -> np.ndarray:
-    import pandas as pd
-
-    values = pd.to_numeric(text, errors="coerce").to_numpy(dtype=np.float64)
-    missing = text.isin(MISSING_TOKENS).to_numpy()
-    bad = np.flatnonzero(np.isnan(values) & ~missing)
+    values, bad = cells_to_numbers(text)
     if bad.size:
         i = bad[0]
         more = f" ({bad.size} such cells in the column)" if bad.size > 1 else ""
@@ -134,7 +130,7 @@ def _numbers(text, lines, dates, names, label: str, layout: FileLayout) -> np.nd
             "plain numbers with '.' as the decimal separator, or leave the cell empty for a "
             "missing value"
         )
-    return np.where(missing, np.nan, values)
+    return values
 
 
 def pivot_long(
