@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import re
 
 import pytest
 from click.testing import CliRunner
@@ -102,3 +103,30 @@ def test_a_missing_file_exits_2(files, tmp_path):
     old, _ = files
     result = _run("diff", old, tmp_path / "nope.csv")
     assert result.exit_code == EXIT_INPUT and "nope.csv" in result.stderr
+
+
+@pytest.mark.parametrize(
+    "content, match",
+    [
+        (
+            None,
+            r"no\.csv: the weights file does not exist \(.*no\.csv\); check the path given on the command line$",
+        ),
+        ("", r"no\.csv: the weights file is empty; expected a header line"),
+        ("name,weight\n", r"no\.csv: the weights file has a header but no rows"),
+        (
+            "name,weight\na,0.5,1\n",
+            r"no\.csv: line 2 has 3 field\(s\); a weights file has exactly two",
+        ),
+    ],
+)
+def test_diff_names_a_bad_weights_file_as_a_weights_file(tmp_path, content, match):
+    bad = tmp_path / "no.csv"
+    if content is not None:
+        bad.write_text(content)
+    good = tmp_path / "good.csv"
+    good.write_text("name,weight\na,0.5\n(cash),0.5\n")
+    result = CliRunner().invoke(main, ["diff", str(bad), str(good)])
+    assert result.exit_code == 2
+    assert re.search(match, result.stderr.strip().removeprefix("Error: ")), result.stderr
+    assert "holdings" not in result.stderr

@@ -28,8 +28,9 @@ def diff_weights(old: Path, new: Path) -> WeightsDiff:
     DataError
         A file is missing or malformed (the message names it).
     """
-    before = read_holdings(Path(old), label=str(old))
-    after = read_holdings(Path(new), label=str(new))
+    before, after = (
+        read_holdings(Path(f), label=str(f), what="weights file", key=None) for f in (old, new)
+    )
     moves = trades(after.names, after.weights, before.names, before.weights)
     return WeightsDiff(
         old=str(old),

@@ -8,7 +8,7 @@ from pathlib import Path
 from trackfit.errors import DataError
 
 
-def read_rows(path: Path, label: str, *, what: str, key: str) -> list[tuple[int, list[str]]]:
+def read_rows(path: Path, label: str, *, what: str, key: str | None) -> list[tuple[int, list[str]]]:
     """Non-blank rows with their line numbers, every field stripped.
 
     Parameters
@@ -18,15 +18,18 @@ def read_rows(path: Path, label: str, *, what: str, key: str) -> list[tuple[int,
         How messages name the file.
     what : str
         What the file is, for messages ("holdings file").
-    key : str
-        The job key that names the file, for messages ("holdings.file").
+    key : str or None
+        The job key that names the file, for messages ("holdings.file"); None when the
+        command line names it.
     """
     if not path.is_file():
         state = "is a folder, not a file" if path.is_dir() else "does not exist"
-        raise DataError(
-            f"{label}: the {what} {state} ({path}); check '{key}' in the job file "
-            "(relative paths start from the job file's folder)"
+        where = (
+            "check the path given on the command line"
+            if key is None
+            else f"check '{key}' in the job file (relative paths start from the job file's folder)"
         )
+        raise DataError(f"{label}: the {what} {state} ({path}); {where}")
     try:
         with path.open(encoding="utf-8-sig", newline="") as handle:
             reader = csv.reader(handle, strict=True)

@@ -45,7 +45,13 @@ class CurrentHoldings:
     cash: float | None
 
 
-def read_holdings(path: Path, *, label: str | None = None) -> CurrentHoldings:
+def read_holdings(
+    path: Path,
+    *,
+    label: str | None = None,
+    what: str = "holdings file",
+    key: str | None = "holdings.file",
+) -> CurrentHoldings:
     """Read a holdings file.
 
     Parameters
@@ -67,14 +73,14 @@ def read_holdings(path: Path, *, label: str | None = None) -> CurrentHoldings:
         are so large that they must be percentages.
     """
     label = str(path) if label is None else label
-    rows = _read_rows(path, label)
+    rows = read_rows(path, label, what=what, key=key)
     if not rows:
         raise DataError(
-            f"{label}: the holdings file is empty; expected a header line "
+            f"{label}: the {what} is empty; expected a header line "
             "(such as name,weight), then one line per name held"
         )
     (header_line, header), body = rows[0], rows[1:]
-    _check_width(header_line, header, label)
+    _check_width(header_line, header, label, what)
     if _NUMBER.fullmatch(header[1]):
         raise DataError(
             f"{label}: line {header_line}: the first line ({','.join(header)}) looks "
@@ -82,7 +88,7 @@ def read_holdings(path: Path, *, label: str | None = None) -> CurrentHoldings:
         )
     if not body:
         raise DataError(
-            f"{label}: the holdings file has a header but no rows; add one line per "
+            f"{label}: the {what} has a header but no rows; add one line per "
             f"name held (a portfolio all in cash is one row: {CASH_ROW},1)"
         )
     names: list[str] = []
@@ -90,7 +96,7 @@ def read_holdings(path: Path, *, label: str | None = None) -> CurrentHoldings:
     first: dict[str, int] = {}
     cash = None
     for line, fields in body:
-        _check_width(line, fields, label)
+        _check_width(line, fields, label, what)
         name, text = fields
         if not name:
             raise DataError(f"{label}: line {line}: the name is blank; give every row a name")
@@ -117,14 +123,10 @@ def read_holdings(path: Path, *, label: str | None = None) -> CurrentHoldings:
     return CurrentHoldings(names=tuple(names), weights=values, cash=cash)
 
 
-def _read_rows(path: Path, label: str) -> list[tuple[int, list[str]]]:
-    return read_rows(path, label, what="holdings file", key="holdings.file")
-
-
-def _check_width(line: int, fields: list[str], label: str) -> None:
+def _check_width(line: int, fields: list[str], label: str, what: str) -> None:
     if len(fields) != 2:
         raise DataError(
-            f"{label}: line {line} has {len(fields)} field(s); a holdings file has "
+            f"{label}: line {line} has {len(fields)} field(s); a {what} has "
             "exactly two columns: the name, then its weight"
         )
 
