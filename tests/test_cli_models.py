@@ -33,6 +33,12 @@ def test_every_kind_fits_reports_and_backtests(tmp_path, kind):
     assert f"| {kind} (held) |" in report
     summary = json.loads((tmp_path / "fit" / "summary.json").read_text())
     assert [m["name"] for m in summary["models"]][0] == kind
+    # The judged fit (before the holdout) and the held weights (whole window) are told apart.
+    assert f"| {kind} (held model, judged fit) |" in report
+    assert f"| {kind} (held weights, whole window) | 120 |" in report
+    first = summary["models"][0]
+    assert set(first["judged_weights"]["weights"]) == set(first["final_weights"]["weights"])
+    assert first["final_in_sample"]["periods"] == 120
     check = runner.invoke(main, ["check", str(job)])
     assert check.exit_code == 0 and f"models: {kind}" in check.stdout
     back = runner.invoke(

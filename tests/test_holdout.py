@@ -93,3 +93,17 @@ def test_zero_variance_constituent_is_left_out_with_a_warning():
     assert any("c3" in w and "zero variance" in w for w in study.warnings)
     for m in study.models[:-1]:
         assert m.final_fit.weights[3] == 0.0
+
+
+def test_the_held_weights_have_their_own_in_sample_figures_on_the_whole_window():
+    # The weights to hold are the refit on the whole window: their figures are measured there,
+    # apart from the judged fit's (tracking_metrics on the whole window, computed here directly).
+    from trackfit.evaluate.metrics import tracking_metrics
+
+    X, y = _data()
+    study = _study(X, y)
+    for m in study.models:
+        w = m.final_fit.weights
+        direct = tracking_metrics(X @ w, y, w, 52)
+        assert m.final_in_sample == direct
+        assert m.final_in_sample.periods == len(y)

@@ -375,13 +375,14 @@ def test_markdown_tracking_tables_have_every_model(outcome):
     section = render_markdown(outcome).split("## Tracking")[1].split("## Penalty choice")[0]
     in_sample, holdout = section.split("### Holdout")
     for part in (in_sample, holdout):
-        for label in ("lasso (held)", "elastic_net", "ols", "equal_weight"):
+        # Every row is a judged fit (before the holdout), the held model's too, and says so.
+        for label in ("lasso (held model, judged fit)", "elastic_net", "ols", "equal_weight"):
             assert f"| {label} |" in part
     assert (
-        "| lasso (held) | 18 | 1.23% | 0.12% | 0.50 | 0.9877 | 0.9938 | 0.9721 | 0.88% | 3 "
-        "| 45.00% |"
+        "| lasso (held model, judged fit) | 18 | 1.23% | 0.12% | 0.50 | 0.9877 | 0.9938 | "
+        "0.9721 | 0.88% | 3 | 45.00% |"
     ) in in_sample
-    assert "| lasso (held) | 6 | 2.35% | 0.12% | n/a |" in holdout
+    assert "| lasso (held model, judged fit) | 6 | 2.35% | 0.12% | n/a |" in holdout
 
 
 def test_markdown_penalty_choice_marks_the_chosen_row(outcome):

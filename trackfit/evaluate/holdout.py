@@ -54,6 +54,8 @@ class ModelOutcome:
     uncapped_in_sample, uncapped_holdout : TrackingMetrics or None
         Under a maximum number of names: the same model fitted at the same penalty without
         that cap (every other limit kept), so the report can show the cost of the cap.
+    final_in_sample : TrackingMetrics or None
+        ``final_fit`` (the weights to hold) on the whole window it was fitted on.
     """
 
     name: str
@@ -65,6 +67,7 @@ class ModelOutcome:
     final_fit: FittedWeights
     uncapped_in_sample: TrackingMetrics | None = None
     uncapped_holdout: TrackingMetrics | None = None
+    final_in_sample: TrackingMetrics | None = None
 
 
 @dataclass(frozen=True)
@@ -151,6 +154,7 @@ def run_holdout(
             in_sample=on_rows(train_fit, Xt, yt),
             holdout=on_rows(train_fit, Xh, yh) if n_holdout else None,
             final_fit=final_fit,
+            final_in_sample=on_rows(final_fit, X, y),
             **extra,
         )
 

@@ -315,6 +315,19 @@ def _label(model: ModelOutcome, held: str) -> str:
     return f"{model.name} (held)" if model.name == held else model.name
 
 
+def _judged_label(model: ModelOutcome, held: str) -> str:
+    """A tracking table's row: every row there is a judged fit, the held model's too."""
+    return f"{model.name} (held model, judged fit)" if model.name == held else model.name
+
+
+def _held_row(outcome: FitOutcome) -> list[list[str]]:
+    """The weights to hold, on the whole window: a row of their own under the judged fits."""
+    model = next(m for m in outcome.study.models if m.name == outcome.held)
+    if model.final_in_sample is None or outcome.study.n_holdout == 0:
+        return []  # no holdout: the judged fit is the held one
+    return [_metric_row(f"{model.name} (held weights, whole window)", model.final_in_sample)]
+
+
 def _tracking(outcome: FitOutcome) -> list[str]:
     study, dates = outcome.study, outcome.data.dates
     right = [False] + [True] * (len(_METRIC_HEADERS) - 1)
@@ -324,14 +337,22 @@ def _tracking(outcome: FitOutcome) -> list[str]:
         "Tracking error and mean active return are annualized with "
         f"{outcome.data.periods_per_year} periods a year; the maximum active drawdown is the "
         "largest fall of the summed active return from its running peak. These three and the "
-        "gross exposure are in percent. Every model here is its fit on the choosing-and-fitting "
-        "rows, before the refit on the whole window."
+        "gross exposure are in percent. Every model here is its judged fit: fitted on the "
+        "choosing-and-fitting rows, before the refit on the whole window."
     )
     lines += ["", "### In-sample", ""]
     lines += [f"Measured on the rows the weights were fitted on ({train}).", ""]
+    held_row = _held_row(outcome)
+    if held_row:
+        lines[-1] = (
+            f"Measured on the rows the weights were fitted on ({train}); the last row is the "
+            f"weights to hold, refitted on the whole window ({_date_range(*row_dates(dates, 0, len(dates)))}), "
+            "measured there."
+        )
+        lines.append("")
     lines += table(
         _METRIC_HEADERS,
-        [_metric_row(_label(m, outcome.held), m.in_sample) for m in study.models],
+        [_metric_row(_judged_label(m, outcome.held), m.in_sample) for m in study.models] + held_row,
         right,
     )
     lines += ["", "### Holdout", ""]
@@ -343,7 +364,7 @@ def _tracking(outcome: FitOutcome) -> list[str]:
     lines.append("")
     lines += table(
         _METRIC_HEADERS,
-        [_metric_row(_label(m, outcome.held), m.holdout) for m in study.models],
+        [_metric_row(_judged_label(m, outcome.held), m.holdout) for m in study.models],
         right,
     )
     return lines

@@ -187,6 +187,8 @@ def _model(model: ModelOutcome, data: TrackingData) -> dict[str, Any]:
         "uncapped_in_sample": _optional_metrics(model.uncapped_in_sample),
         "uncapped_holdout": _optional_metrics(model.uncapped_holdout),
         "final_weights": _weights(model.final_fit, data.names),
+        "final_in_sample": _optional_metrics(model.final_in_sample),
+        "judged_weights": _weights(model.train_fit, data.names),
     }
 
 
