@@ -206,9 +206,10 @@ def fit_notes(model: Model, weights: np.ndarray, limits: Limits = NO_LIMITS) -> 
     """
     w = np.atleast_2d(np.asarray(weights, dtype=float))
     many = np.ndim(weights) == 2
+    # Names a short is allowed in: no long-only, and no lower bound of zero or above.
     floor = np.full(w.shape[1], -np.inf) if limits.lower is None else limits.lower
-    free = 0.0 if limits.long_only else np.where(floor < 0.0, 1.0, 0.0)
-    shorts = np.sum((w < 0.0) & (free > 0.0), axis=1)
+    may_short = np.zeros(w.shape[1], dtype=bool) if limits.long_only else floor < 0.0
+    shorts = np.sum((w < 0.0) & may_short, axis=1)
     cash = 1.0 - w.sum(axis=1)
     no_budget = limits.budget is None
     out = []
