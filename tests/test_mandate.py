@@ -40,7 +40,7 @@ def _job(tmp_path: Path, text: str, sectors: str = SECTORS, held: str | None = N
 
 
 def test_no_limits_gives_the_empty_limits(tmp_path):
-    limits, holdings, warnings = build_limits(_job(tmp_path, ""), NAMES)
+    limits, holdings, warnings, _ = build_limits(_job(tmp_path, ""), NAMES)
     assert isinstance(limits, Limits) and not limits.any
     assert (limits.lower, limits.upper, limits.current, limits.groups) == (None, None, None, ())
     assert (holdings, warnings) == (None, ())
@@ -48,7 +48,7 @@ def test_no_limits_gives_the_empty_limits(tmp_path):
 
 def test_long_only_alone_sets_no_bound_arrays(tmp_path):
     # long-only needs no per-name arrays; they would push the fit to the QP solver for nothing
-    limits, _, _ = build_limits(_job(tmp_path, "limits: {long_only: true}\n"), NAMES)
+    limits, _, _, _ = build_limits(_job(tmp_path, "limits: {long_only: true}\n"), NAMES)
     assert limits.long_only and not limits.needs_qp
     assert limits.lower is None and limits.upper is None
 
@@ -86,7 +86,7 @@ def test_long_only_alone_sets_no_bound_arrays(tmp_path):
     ],
 )
 def test_per_name_bounds(tmp_path, text, lower, upper):
-    limits, _, warnings = build_limits(_job(tmp_path, text), NAMES)
+    limits, _, warnings, _ = build_limits(_job(tmp_path, text), NAMES)
     np.testing.assert_array_equal(limits.lower, np.array(lower))
     np.testing.assert_array_equal(limits.upper, np.array(upper))
     assert limits.lower.shape == limits.upper.shape == (len(NAMES),)
@@ -95,14 +95,14 @@ def test_per_name_bounds(tmp_path, text, lower, upper):
 
 def test_scalar_limits_are_copied(tmp_path):
     text = "limits: {long_only: true, budget: fully_invested, max_names: 3, min_position: 0.005}\n"
-    limits, _, _ = build_limits(_job(tmp_path, text), NAMES)
+    limits, _, _, _ = build_limits(_job(tmp_path, text), NAMES)
     assert (limits.long_only, limits.budget, limits.max_names, limits.min_position) == (
         True,
         (1.0, 1.0),
         3,
         0.005,
     )
-    limits, _, _ = build_limits(_job(tmp_path, "limits: {budget: {min: 0.95}}\n"), NAMES)
+    limits, _, _, _ = build_limits(_job(tmp_path, "limits: {budget: {min: 0.95}}\n"), NAMES)
     assert limits.budget == (0.95, math.inf)
 
 
@@ -111,7 +111,7 @@ def test_group_limits_in_sorted_order_with_each_and_bounds(tmp_path):
         "limits:\n  groups:\n    file: data/sectors.csv\n    group_column: sector\n"
         "    each: {max: 0.3}\n    bounds: {tidal_energy: {min: 0.05, max: 0.25}}\n"
     )
-    limits, _, warnings = build_limits(_job(tmp_path, text), NAMES)
+    limits, _, warnings, _ = build_limits(_job(tmp_path, text), NAMES)
     assert limits.groups == (
         GroupLimit("banks", (2,), None, 0.3),
         GroupLimit("mining", (0,), None, 0.3),
@@ -126,7 +126,7 @@ def test_only_groups_with_bounds_are_limited(tmp_path):
         "limits:\n  groups:\n    file: data/sectors.csv\n    group_column: sector\n"
         "    bounds: {telecom: {max: 0.1}, banks: {min: 0.02}}\n"
     )
-    limits, _, _ = build_limits(_job(tmp_path, text), NAMES)
+    limits, _, _, _ = build_limits(_job(tmp_path, text), NAMES)
     assert limits.groups == (
         GroupLimit("banks", (2,), 0.02, None),
         GroupLimit("telecom", (4,), None, 0.1),
@@ -140,9 +140,11 @@ def test_positions_follow_the_fits_names_not_the_file(tmp_path):
         "limits:\n  groups:\n    file: data/sectors.csv\n    group_column: sector\n"
         "    bounds: {tidal_energy: {max: 0.2}}\n"
     )
-    limits, _, warnings = build_limits(_job(tmp_path, text), names)
+    limits, _, warnings, notes = build_limits(_job(tmp_path, text), names)
     assert limits.groups == (GroupLimit("tidal_energy", (0, 3), None, 0.2),)
-    assert warnings == (
+    # Groups-file rows of names outside the fit are routine (a note: no exit code).
+    assert warnings == ()
+    assert notes == (
         "data/sectors.csv: 1 name(s) in the groups file are not constituents of "
         "this fit; their rows are ignored",
     )
@@ -154,11 +156,13 @@ def test_group_bounds_for_a_group_without_constituents(tmp_path):
         "limits:\n  groups:\n    file: data/sectors.csv\n    group_column: sector\n"
         "    bounds: {shipping: {max: 0.1}}\n"
     )
-    limits, _, warnings = build_limits(_job(tmp_path, text, sectors), NAMES)
+    limits, _, warnings, notes = build_limits(_job(tmp_path, text, sectors), NAMES)
     assert limits.groups == ()
-    assert warnings == (
+    assert notes == (
         "data/sectors.csv: 1 name(s) in the groups file are not constituents of this fit; their "
         "rows are ignored",
+    )
+    assert warnings == (
         "group 'shipping' has no constituent in this fit; its bounds in 'limits.groups.bounds' "
         "have nothing to limit",
     )
@@ -172,7 +176,7 @@ def test_holdings_aligned_to_the_names(tmp_path):
     text = (
         "holdings:\n  file: current/weights.csv\n  turnover_penalty: 0.0005\n  max_turnover: 0.1\n"
     )
-    limits, holdings, warnings = build_limits(_job(tmp_path, text, held=held), NAMES)
+    limits, holdings, warnings, _ = build_limits(_job(tmp_path, text, held=held), NAMES)
     np.testing.assert_array_equal(limits.current, [0.5, 0.0, 0.25, 0.0, 0.0])
     assert limits.outside_turnover == pytest.approx((0.04 + 0.02) / 2, abs=1e-15)
     assert (limits.turnover_penalty, limits.max_turnover) == (0.0005, 0.1)
@@ -194,7 +198,7 @@ def test_holdings_aligned_to_the_names(tmp_path):
 
 def test_holdings_without_turnover_limits_still_set_current(tmp_path):
     held = "name,weight\nharbour_gas,1.0\n"
-    limits, holdings, warnings = build_limits(
+    limits, holdings, warnings, _ = build_limits(
         _job(tmp_path, "holdings: {file: current/weights.csv}\n", held=held), NAMES
     )
     np.testing.assert_array_equal(limits.current, [0.0, 1.0, 0.0, 0.0, 0.0])
@@ -208,7 +212,7 @@ def test_holdings_without_turnover_limits_still_set_current(tmp_path):
 
 def test_many_sold_names_are_listed_up_to_ten(tmp_path):
     held = "name,weight\n" + "".join(f"gone_{i:02d},0.01\n" for i in range(12))
-    _, _, warnings = build_limits(
+    _, _, warnings, _ = build_limits(
         _job(tmp_path, "holdings: {file: current/weights.csv}\n", held=held), NAMES
     )
     assert "12 name(s) held now" in warnings[0]

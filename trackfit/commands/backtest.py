@@ -19,7 +19,7 @@ from pathlib import Path
 import numpy as np
 
 from trackfit.commands.output import Notify, Written, output_folder, with_lock
-from trackfit.commands.prepare import day, design_statements, prepare
+from trackfit.commands.prepare import day, design_statements, held_model, prepare
 from trackfit.core.cv import window_bounds
 from trackfit.core.folds import ForwardChaining
 from trackfit.core.gram import RowBlocks, prefix_blocks
@@ -28,11 +28,11 @@ from trackfit.data import TrackingData
 from trackfit.errors import DataError, JobError, SolverError, TrackfitError
 from trackfit.evaluate.backtest import run_backtest
 from trackfit.evaluate.recipe import (
-    BASELINES,
     Model,
     StudyDesign,
     choose_penalty,
     fit_model,
+    fit_notes,
     fit_warnings,
 )
 from trackfit.evaluate.schedule import rebalance_rows
@@ -276,13 +276,6 @@ def shared_blocks(
     return prefix_blocks(X, y, bounds), None
 
 
-def _held_model(job: Job) -> Model:
-    """The job's ``hold``: a listed model or a baseline."""
-    if job.hold in BASELINES:
-        return Model.baseline(job.hold)
-    return Model.of(next(m for m in job.models if m.name == job.hold))
-
-
 def run_backtest_job(
     job: Job,
     *,
@@ -319,7 +312,7 @@ def run_backtest_job(
     rows = _schedule(job, spec, data, least)
     coupled = bool(limits.turnover_penalty) or limits.max_turnover is not None
     bps = _costs(job, spec, data.names)
-    model = _held_model(job)
+    model = held_model(job)
     blocks, block_note = (None, None)
     if model.penalized:
         blocks, block_note = shared_blocks(
@@ -388,9 +381,11 @@ def run_backtest_job(
             "window up to the rebalance date, and the periods after it are the test"
         )
     warnings = [*prepared.warnings, *design_warnings]
+    notes = [*prepared.notes, *notes]
     for f in ordered:
         warnings.extend(f.warnings)
         notes.extend(f.notes)
+    notes.extend(fit_notes(model, np.array([f.weights for f in ordered]), limits))
     return BacktestOutcome(
         job=job,
         spec=spec,

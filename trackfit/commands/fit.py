@@ -13,8 +13,9 @@ from pathlib import Path
 
 from trackfit.commands.fit_plan import FitPlan, plan_fit
 from trackfit.commands.output import Notify, Written, output_folder, with_lock
-from trackfit.commands.prepare import day, prepare
+from trackfit.commands.prepare import day, held_model, prepare
 from trackfit.evaluate.holdout import run_holdout
+from trackfit.evaluate.recipe import fit_notes
 from trackfit.evaluate.trades import trades
 from trackfit.job import Job, load_job
 from trackfit.outcomes.fit import FitOutcome
@@ -58,7 +59,11 @@ def fit_plan(plan: FitPlan, *, progress: Progress | None = None) -> FitOutcome:
         warnings=tuple(dict.fromkeys([*plan.warnings, *study.warnings])),
         limits=prepared.limits,
         trades=trade_list,
-        notes=plan.notes,
+        notes=tuple(
+            dict.fromkeys(
+                [*plan.notes, *fit_notes(held_model(job), held.final_fit.weights, prepared.limits)]
+            )
+        ),
     )
 
 

@@ -25,7 +25,8 @@ class FitPlan:
         The cross-validation folds over the ``n_train`` rows.
     warnings, notes : tuple of str
         Everything known before fitting: the data's and the limits' warnings, then the
-        design's; statements about method the report must carry.
+        design's; the limits' notes (routine facts), then the design's statements about method,
+        which the report must carry and which change no exit code.
     """
 
     prepared: Prepared
@@ -69,5 +70,5 @@ def plan_fit(prepared: Prepared) -> FitPlan:
         n_holdout=n_holdout,
         folds=folds,
         warnings=(*prepared.warnings, *warnings),
-        notes=tuple(notes),
+        notes=(*prepared.notes, *notes),
     )

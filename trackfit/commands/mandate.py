@@ -3,7 +3,8 @@
 :func:`build_limits` reads the groups and holdings files the job names, checks that every name
 and group label the job writes exists, and builds :class:`~trackfit.core.limits.Limits` over
 the constituents of one fit. Problems in the job are JobErrors naming the job file; problems in
-a data file are DataErrors naming that file. Everything else worth telling is a warning.
+a data file are DataErrors naming that file. Everything else worth telling is a warning (what
+a person must look at) or a note (a routine fact the report carries; it changes no exit code).
 """
 
 from __future__ import annotations
@@ -34,7 +35,7 @@ _MAX_LISTED = 10
 
 def build_limits(
     job: Job, names: Sequence[str]
-) -> tuple[Limits, CurrentHoldings | None, tuple[str, ...]]:
+) -> tuple[Limits, CurrentHoldings | None, tuple[str, ...], tuple[str, ...]]:
     """The job's mandate limits over the constituents of one fit.
 
     Parameters
@@ -55,6 +56,9 @@ def build_limits(
     holdings : CurrentHoldings or None
         The holdings file as read, when the job names one.
     warnings : tuple of str
+        What a person must look at before holding the weights.
+    notes : tuple of str
+        Routine facts for the report (groups-file rows of names outside this fit).
 
     Raises
     ------
@@ -69,11 +73,12 @@ def build_limits(
     spec = job.limits
     index = {name: i for i, name in enumerate(names)}
     warnings: list[str] = []
+    notes: list[str] = []
     lower, upper = _name_bounds(job, index)
     # Linear limits in the order of the solver's rows: budget, groups, then the others.
     linear = (
         *_budget(job),
-        *(group_limit(g) for g in _group_limits(job, names, index, warnings)),
+        *(group_limit(g) for g in _group_limits(job, names, index, warnings, notes)),
         *_beta(job),
     )
     holdings, current, outside = _current(job, index, warnings)
@@ -89,7 +94,7 @@ def build_limits(
         max_names=spec.max_names,
         min_position=spec.min_position,
     )
-    return limits, holdings, tuple(warnings)
+    return limits, holdings, tuple(warnings), tuple(notes)
 
 
 def _name_bounds(job: Job, index: dict[str, int]) -> tuple[np.ndarray | None, np.ndarray | None]:
@@ -132,7 +137,7 @@ def _beta(job: Job) -> tuple[LinearLimit, ...]:
 
 
 def _group_limits(
-    job: Job, names: Sequence[str], index: dict[str, int], warnings: list[str]
+    job: Job, names: Sequence[str], index: dict[str, int], warnings: list[str], notes: list[str]
 ) -> tuple[GroupLimit, ...]:
     spec = job.limits.groups
     if spec is None:
@@ -146,8 +151,8 @@ def _group_limits(
             f"row for each with its group in column {spec.group_column!r}"
         )
     ignored = sum(1 for name in mapping if name not in index)
-    if ignored:
-        warnings.append(
+    if ignored:  # a sector file usually covers more names than the fund can trade
+        notes.append(
             f"{label}: {ignored} name(s) in the groups file are not constituents of this fit; "
             "their rows are ignored"
         )

@@ -3,7 +3,7 @@
 Read and align every file once, select the window (the fit's, or the wider one a backtest's
 rebalance windows need), build the cross-validation design and the mandate limits, and check
 that the limits can hold, before anything is fitted. ``fit``, ``check`` and ``backtest`` all
-start here, so they see the same data, the same limits and the same warnings.
+start here, so they see the same data, the same limits, the same warnings and the same notes.
 """
 
 from __future__ import annotations
@@ -23,7 +23,7 @@ from trackfit.data.load import load_tracking_data
 from trackfit.data.series import AlignedSeries, align_series
 from trackfit.data.window import select_window
 from trackfit.errors import DataError, JobError, SolverError
-from trackfit.evaluate.recipe import StudyDesign
+from trackfit.evaluate.recipe import BASELINES, Model, StudyDesign
 from trackfit.job import BacktestSpec, Job, WindowSpec
 
 
@@ -43,7 +43,9 @@ class Prepared:
     holdings : CurrentHoldings or None
         The holdings file as read, when the job names one.
     warnings : tuple of str
-        From the data and the limits, in that order.
+        From the data and the limits, in that order: what a person must look at.
+    notes : tuple of str
+        Routine facts from the limits the report carries; they change no exit code.
     """
 
     job: Job
@@ -52,6 +54,7 @@ class Prepared:
     limits: Limits
     holdings: CurrentHoldings | None
     warnings: tuple[str, ...]
+    notes: tuple[str, ...] = ()
 
     @property
     def as_of(self) -> date:
@@ -82,6 +85,13 @@ def design_of(job: Job) -> StudyDesign:
     )
 
 
+def held_model(job: Job) -> Model:
+    """The job's ``hold``: a listed model or a baseline."""
+    if job.hold in BASELINES:
+        return Model.baseline(job.hold)
+    return Model.of(next(m for m in job.models if m.name == job.hold))
+
+
 def prepare(
     job: Job, as_of: date | None = None, *, backtest: BacktestSpec | None = None
 ) -> Prepared:
@@ -103,7 +113,7 @@ def prepare(
     aligned = align_series(job)
     window = job.window if backtest is None else _backtest_window(job, backtest, aligned, as_of)
     data = load_tracking_data(replace(job, window=window), as_of, aligned=aligned)
-    limits, holdings, limit_warnings = build_limits(job, data.names)
+    limits, holdings, limit_warnings, limit_notes = build_limits(job, data.names)
     try:
         check_feasible(limits, data.names)
     except SolverError as exc:  # conflicting limits are the job's to fix, not a fit failure
@@ -115,6 +125,7 @@ def prepare(
         limits=limits,
         holdings=holdings,
         warnings=(*data.warnings, *limit_warnings),
+        notes=limit_notes,
     )
 
 

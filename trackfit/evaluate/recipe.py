@@ -2,8 +2,8 @@
 
 Every place that turns rows into weights goes through here: the fit's holdout study (once on
 the rows before the holdout, once on the whole window) and every backtest rebalance. So the
-penalty is chosen the same way, the baselines are fitted the same way and the warnings read the
-same everywhere.
+penalty is chosen the same way, the baselines are fitted the same way and the warnings and notes
+read the same everywhere.
 """
 
 from __future__ import annotations
@@ -26,6 +26,11 @@ from trackfit.core.solvers import PathSolver
 
 #: Always computed beside the penalized models; either may be held.
 BASELINES = ("ols", "equal_weight")
+
+#: Held cash above this share, with no budget limit, gets a note: a penalty shrinks the weights
+#: toward zero, and with no budget that means toward cash (2 %: common practice for a cash drag
+#: worth a look, not a derived threshold).
+CASH_NOTE_SHARE = 0.02
 
 
 @dataclass(frozen=True)
@@ -182,12 +187,75 @@ def fit_warnings(
     return out
 
 
+def fit_notes(model: Model, weights: np.ndarray, limits: Limits = NO_LIMITS) -> list[str]:
+    """Routine facts about held weights the report carries, in the words every command uses.
+
+    Shorts in names no limit keeps at zero or above, negative cash with no budget limit, and
+    more than :data:`CASH_NOTE_SHARE` cash in a penalized fit with no budget limit. Allowed
+    by the job, so notes (no exit code), each pointing at the key that forbids it.
+
+    Parameters
+    ----------
+    model : Model
+        The held model.
+    weights : ndarray of shape (n_assets,) or (n_rebalances, n_assets)
+        The held weights of one fit, or the targets of every rebalance of a backtest (the notes
+        then count the rebalances).
+    limits : Limits
+        The mandate limits the weights were fitted under.
+    """
+    w = np.atleast_2d(np.asarray(weights, dtype=float))
+    many = np.ndim(weights) == 2
+    # Names a short is allowed in: no long-only, and no lower bound of zero or above.
+    floor = np.full(w.shape[1], -np.inf) if limits.lower is None else limits.lower
+    may_short = np.zeros(w.shape[1], dtype=bool) if limits.long_only else floor < 0.0
+    shorts = np.sum((w < 0.0) & may_short, axis=1)
+    cash = 1.0 - w.sum(axis=1)
+    no_budget = limits.budget is None
+    out = []
+
+    def counted(mask: np.ndarray, one: str, each: str) -> None:
+        n = int(np.count_nonzero(mask))
+        if n and many:
+            out.append(f"{model.name}: {n} of {len(mask)} rebalances {each}")
+        elif n:
+            out.append(f"{model.name}: {one}")
+
+    where = "no limit forbids them; to hold none set limits.long_only: true"
+    counted(
+        shorts > 0,
+        f"the held weights include {int(shorts[0])} short position(s) (negative weights); {where}",
+        f"held shorts (negative weights); {where}",
+    )
+    if no_budget:
+        counted(
+            cash < 0.0,
+            f"the held weights sum to {w[0].sum():.4f}, so cash is negative "
+            f"({cash[0]:.4f}, borrowed); to bound the sum of weights set limits.budget",
+            "held negative cash (weights summing above 1, borrowed); to bound the sum of "
+            "weights set limits.budget",
+        )
+    if no_budget and model.penalized:
+        shrink = (
+            "penalized fits shrink the weights toward zero, so with no budget limit toward "
+            "cash; to hold none set limits.budget: fully_invested"
+        )
+        counted(
+            cash > CASH_NOTE_SHARE,
+            f"the held weights leave {cash[0]:.2%} in cash; {shrink}",
+            f"held more than {CASH_NOTE_SHARE:.0%} cash; {shrink}",
+        )
+    return out
+
+
 __all__ = [
     "BASELINES",
+    "CASH_NOTE_SHARE",
     "Model",
     "StudyDesign",
     "choose_penalty",
     "fit_model",
+    "fit_notes",
     "fit_warnings",
     "held_support",
 ]
