@@ -59,6 +59,7 @@ def fit_plan(plan: FitPlan, *, progress: Progress | None = None) -> FitOutcome:
         limits=prepared.limits,
         trades=trade_list,
         notes=plan.notes,
+        holdings=prepared.holdings,
     )
 
 
