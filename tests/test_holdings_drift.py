@@ -46,6 +46,12 @@ def folder(tmp_path_factory):
     pd.DataFrame({"rate": np.full(N_DATES, RATE_PERCENT)}, index=frame.index).to_csv(
         root / "rate.csv", date_format="%Y-%m-%d"
     )
+    frame.pct_change().iloc[1:].to_csv(
+        root / "returns.csv", float_format="%.10f", date_format="%Y-%m-%d"
+    )
+    pd.DataFrame({"idx": bench}, index=frame.index).pct_change().iloc[1:].to_csv(
+        root / "index_returns.csv", float_format="%.10f", date_format="%Y-%m-%d"
+    )
     _held(root / "held.csv", HELD)
     _held(root / "held_ghost.csv", {**HELD, "ghost_quay": 0.05})
     return root
@@ -207,6 +213,7 @@ def test_cli_reports_file_and_drifted_weights_and_the_turnover_from_the_drifted(
     )
     assert result.exit_code == 0, result.stderr
     summary = json.loads((tmp_path / "summary.json").read_text())
+    assert summary["job"]["holdings"]["date"] == "2025-05-02"
     held = summary["trades"]["holdings"]
     assert held["date"] == "2025-05-02" and held["drifted"] is True
     assert held["file_weights"] == HELD
@@ -253,3 +260,17 @@ def test_backtest_with_dated_holdings_runs(folder, tmp_path):
     assert result.exit_code == EXIT_WARNINGS, result.stderr  # written, with the warning
     assert "'holdings.date' is not used" in result.stderr
     assert (tmp_path / "report.md").exists()
+
+
+def test_returns_data_drift_by_the_product_of_one_plus_the_returns(folder):
+    text = _job(folder, "returns").read_text()
+    text = text.replace("index.csv", "index_returns.csv").replace("prices.csv", "returns.csv")
+    path = folder / "returns.yaml"
+    path.write_text(text.replace("data: {values: prices}", "data: {values: returns}"))
+    prepared = prepare(load_job(path))
+    r = pd.read_csv(folder / "returns.csv", index_col="date", parse_dates=True)
+    growth = (1.0 + r.loc["2025-05-03" : str(prepared.as_of)]).prod()  # common practice
+    w = pd.Series(HELD)
+    grown = w * growth[w.index]
+    hand = grown / (grown.sum() + 1.0 - w.sum())
+    np.testing.assert_allclose(prepared.limits.current[:5], hand.to_numpy(), rtol=1e-12, atol=0)
