@@ -357,7 +357,7 @@ ERRORS = [
     (
         BC + "holdings: current/weights.csv\n",
         "'holdings' must be a mapping with keys among "
-        "'file', 'turnover_penalty', 'max_turnover'; got 'current/weights.csv'.",
+        "'file', 'date', 'turnover_penalty', 'max_turnover'; got 'current/weights.csv'.",
     ),
     (
         BC + "holdings: {turnover_penalty: 0.001}\n",
@@ -369,7 +369,7 @@ ERRORS = [
     ),
     (
         BC + "holdings: {file: h.csv, cost: 0.001}\n",
-        "unknown key 'holdings.cost'; allowed: file, turnover_penalty, max_turnover",
+        "unknown key 'holdings.cost'; allowed: file, date, turnover_penalty, max_turnover",
     ),
     (
         BC + "holdings: {file: h.csv, max_turnover: 10}\n",

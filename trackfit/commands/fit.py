@@ -64,6 +64,7 @@ def fit_plan(plan: FitPlan, *, progress: Progress | None = None) -> FitOutcome:
                 [*plan.notes, *fit_notes(held_model(job), held.final_fit.weights, prepared.limits)]
             )
         ),
+        holdings=prepared.holdings,
     )
 
 

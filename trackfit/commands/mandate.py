@@ -11,6 +11,8 @@ from __future__ import annotations
 
 import difflib
 from collections.abc import Sequence
+from dataclasses import replace
+from datetime import date
 from pathlib import Path
 
 import numpy as np
@@ -24,17 +26,26 @@ from trackfit.core.limits import (
     group_limit,
 )
 from trackfit.data.groups import read_groups
-from trackfit.data.holdings import CurrentHoldings, read_holdings
+from trackfit.data.holdings import CurrentHoldings, HoldingsDrift, read_holdings
+from trackfit.data.returns import per_period_rate, percent_to_decimal, simple_returns
+from trackfit.data.series import AlignedSeries
 from trackfit.errors import DataError, JobError
 from trackfit.job import Job
 
 __all__ = ["CurrentHoldings", "build_limits"]
 
 _MAX_LISTED = 10
+#: Holdings dated more than this many days before the as-of date get a warning.
+STALE_DAYS = 93
 
 
 def build_limits(
-    job: Job, names: Sequence[str]
+    job: Job,
+    names: Sequence[str],
+    *,
+    aligned: AlignedSeries | None = None,
+    as_of: date | None = None,
+    periods_per_year: int | None = None,
 ) -> tuple[Limits, CurrentHoldings | None, tuple[str, ...], tuple[str, ...]]:
     """The job's mandate limits over the constituents of one fit.
 
@@ -44,6 +55,15 @@ def build_limits(
     names : sequence of str, length n_assets
         The fit's constituents (``TrackingData.names``: zero-variance names already left out);
         positions in the result index this sequence.
+    aligned : AlignedSeries, optional
+        The job's series as read and aligned; with ``holdings.date`` set, the held weights are
+        drifted by their total returns over the dates after it up to ``as_of``. None: the
+        weights are used as the file gives them.
+    as_of : date, optional
+        The last date of the fit window (required with ``aligned``).
+    periods_per_year : int, optional
+        The fit's periods per year, to turn an annual risk-free rate into a per-period one
+        (required with ``aligned`` when the job has a risk-free series).
 
     Returns
     -------
@@ -54,7 +74,9 @@ def build_limits(
         not held). ``linear``: the budget, the groups in sorted label order, then beta to the
         benchmark (its coefficients computed on the fit rows, see ``Limits.on_rows``).
     holdings : CurrentHoldings or None
-        The holdings file as read, when the job names one.
+        The holdings file as read, when the job names one; drifted (``drift`` set) when
+        ``holdings.date`` is set and ``aligned`` is given, and ``limits.current`` holds the
+        drifted weights then.
     warnings : tuple of str
         What a person must look at before holding the weights.
     notes : tuple of str
@@ -63,6 +85,7 @@ def build_limits(
     Raises
     ------
     JobError
+        ``holdings.date`` is after ``as_of`` or before the first data date;
         ``limits.names`` names a name that is not a constituent; ``limits.groups.bounds``
         names a label that no row of the groups file uses, or sets a positive minimum for a
         group with no constituent in this fit.
@@ -81,7 +104,9 @@ def build_limits(
         *(group_limit(g) for g in _group_limits(job, names, index, warnings, notes)),
         *_beta(job),
     )
-    holdings, current, outside = _current(job, index, warnings)
+    holdings, current, outside = _current(
+        job, index, warnings, aligned=aligned, as_of=as_of, periods_per_year=periods_per_year
+    )
     limits = Limits(
         long_only=spec.long_only,
         lower=lower,
@@ -190,13 +215,21 @@ def _group_limits(
 
 
 def _current(
-    job: Job, index: dict[str, int], warnings: list[str]
+    job: Job,
+    index: dict[str, int],
+    warnings: list[str],
+    *,
+    aligned: AlignedSeries | None = None,
+    as_of: date | None = None,
+    periods_per_year: int | None = None,
 ) -> tuple[CurrentHoldings | None, np.ndarray | None, float]:
-    """The holdings read, current weights over the constituents, and the forced turnover."""
+    """The holdings read (drifted when dated), weights over the constituents, forced turnover."""
     if job.holdings is None:
         return None, None, 0.0
     label = _label(job.holdings.file, job)
     held = read_holdings(job.holdings.file, label=label)
+    if job.holdings.date is not None and aligned is not None:
+        held = _drifted(job, held, aligned, as_of, periods_per_year, label, warnings)
     current = np.zeros(len(index))
     sold: list[tuple[str, float]] = []
     for name, weight in zip(held.names, held.weights):
@@ -213,6 +246,111 @@ def _current(
             "alone"
         )
     return held, current, float(outside)
+
+
+def _drifted(
+    job: Job,
+    held: CurrentHoldings,
+    aligned: AlignedSeries,
+    as_of: date,
+    periods_per_year: int | None,
+    label: str,
+    warnings: list[str],
+) -> CurrentHoldings:
+    """``held`` carried from ``holdings.date`` to ``as_of`` by buy-and-hold.
+
+    Each name grows by its total return (the file's, before any risk-free rate is taken off)
+    over the return dates after the holdings date up to and including ``as_of``; cash grows by
+    the risk-free rate (not at all without one); names with no series keep their value. Every
+    data date counts, also those the fit leaves out (missing values, the data screen): the
+    holdings earned those returns all the same.
+    """
+    when = job.holdings.date
+    if when > as_of:
+        raise JobError(
+            f"{job.path}: 'holdings.date' is {when}, after the as-of date {as_of}; the "
+            "holdings cannot be from after the fit's last date; fix the date or pass a later "
+            "--as-of"
+        )
+    dates = aligned.dates
+    i0 = int(np.searchsorted(dates, np.datetime64(when, "D"), side="right")) - 1
+    i1 = int(np.searchsorted(dates, np.datetime64(as_of, "D"), side="right")) - 1
+    if i0 < 0:
+        raise JobError(
+            f"{job.path}: 'holdings.date' is {when}, before the first data date {dates[0]}; "
+            "the weights cannot be drifted from it; fix the date or remove it"
+        )
+    if (as_of - when).days > STALE_DAYS:
+        warnings.append(
+            f"{label}: 'holdings.date' {when} is {(as_of - when).days} days before the as-of "
+            f"date {as_of} (more than {STALE_DAYS}); the drifted weights may no longer be what "
+            "is held: check that the holdings file is the latest"
+        )
+    growth, cash_growth = _growth(job, aligned, i0, i1, periods_per_year, held, label)
+    column = {name: j for j, name in enumerate(aligned.names)}
+    kept = tuple(n for n, w in zip(held.names, held.weights) if n not in column and w != 0.0)
+    g = np.array([growth[column[n]] if n in column else 1.0 for n in held.names])
+    file_cash = 1.0 - float(held.weights.sum())
+    grown = held.weights * g
+    value = float(grown.sum()) + file_cash * cash_growth
+    weights = grown / value
+    drift = HoldingsDrift(
+        date=when,
+        start=_day(dates[i0]),
+        end=as_of,
+        periods=i1 - i0,
+        file_weights=held.weights,
+        file_cash=file_cash,
+        kept=kept,
+    )
+    return replace(held, weights=weights, cash=1.0 - float(weights.sum()), drift=drift)
+
+
+def _growth(
+    job: Job,
+    aligned: AlignedSeries,
+    i0: int,
+    i1: int,
+    periods_per_year: int | None,
+    held: CurrentHoldings,
+    label: str,
+) -> tuple[np.ndarray, float]:
+    """Growth of one unit of each constituent, shape (n_constituents,), and of cash."""
+    n = len(aligned.names)
+    raw = aligned.values[i0 : i1 + 1]
+    if job.data.values == "prices":
+        returns = simple_returns(raw[:, 1 : 1 + n])
+    else:
+        returns = raw[1:, 1 : 1 + n]
+        if job.data.returns_unit == "percent":
+            returns = percent_to_decimal(returns)
+    weight = dict(zip(held.names, held.weights))
+    dates = aligned.dates[i0 + 1 : i1 + 1]
+    for j, name in enumerate(aligned.names):
+        bad = ~np.isfinite(returns[:, j])
+        if weight.get(name, 0.0) != 0.0 and bad.any():
+            raise DataError(
+                f"{aligned.labels[1 + j]}: no return on {dates[bad][0]}, between the holdings "
+                f"date and the as-of date, so the weight held in {label} cannot be drifted; "
+                "fill the gap in the file, or remove 'holdings.date'"
+            )
+    growth = np.prod(1.0 + np.where(np.isfinite(returns), returns, 0.0), axis=0)
+    if not aligned.has_risk_free:
+        return growth, 1.0
+    rf = job.risk_free
+    rate = per_period_rate(
+        raw[1:, -1], unit=rf.unit, quote=rf.quote, periods_per_year=periods_per_year
+    )
+    if not np.isfinite(rate).all():
+        raise DataError(
+            f"{aligned.labels[-1]}: no rate on {dates[~np.isfinite(rate)][0]}, between the "
+            "holdings date and the as-of date, so cash cannot be drifted; fill the gap"
+        )
+    return growth, float(np.prod(1.0 + rate))
+
+
+def _day(value: np.datetime64) -> date:
+    return value.astype("datetime64[D]").item()
 
 
 def _left_out(job: Job) -> str:

@@ -113,7 +113,7 @@ def prepare(
     aligned = align_series(job)
     window = job.window if backtest is None else _backtest_window(job, backtest, aligned, as_of)
     data = load_tracking_data(replace(job, window=window), as_of, aligned=aligned)
-    limits, holdings, limit_warnings, limit_notes = build_limits(job, data.names)
+    limits, holdings, limit_warnings, limit_notes = _limits(job, data, aligned, backtest)
     try:
         check_feasible(limits, data.names)
     except SolverError as exc:  # conflicting limits are the job's to fix, not a fit failure
@@ -127,6 +127,28 @@ def prepare(
         warnings=(*data.warnings, *limit_warnings),
         notes=limit_notes,
     )
+
+
+def _limits(
+    job: Job, data: TrackingData, aligned: AlignedSeries, backtest: BacktestSpec | None
+) -> tuple[Limits, CurrentHoldings | None, tuple[str, ...], tuple[str, ...]]:
+    """The mandate limits; dated holdings are drifted to the as-of date of a fit."""
+    if backtest is None:
+        return build_limits(
+            job,
+            data.names,
+            aligned=aligned,
+            as_of=day(data.dates[-1]),
+            periods_per_year=data.periods_per_year,
+        )
+    limits, holdings, warnings, notes = build_limits(job, data.names)
+    if job.holdings is not None and job.holdings.date is not None:
+        warnings = (
+            *warnings,
+            "backtest: 'holdings.date' is not used; the first rebalance trades from the "
+            "holdings file's weights as given, not drifted to its date",
+        )
+    return limits, holdings, warnings, notes
 
 
 def _backtest_window(

@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass
+from datetime import date
 from pathlib import Path
 
 import numpy as np
@@ -27,6 +28,37 @@ _NON_FINITE = re.compile(r"[-+]?(nan|inf|infinity)", re.IGNORECASE)
 
 
 @dataclass(frozen=True, eq=False)
+class HoldingsDrift:
+    """How the file's weights were carried to the as-of date by the returns since their date.
+
+    Attributes
+    ----------
+    date : date
+        ``holdings.date``: the date the file's weights are as of.
+    start : date
+        The data date the drift starts from: ``date`` itself, or the last data date before it.
+    end : date
+        The as-of date the weights were drifted to.
+    periods : int
+        Return dates after ``start`` up to and including ``end``.
+    file_weights : ndarray of shape (n_names,)
+        The weights as the file gives them, aligned with ``CurrentHoldings.names``.
+    file_cash : float
+        ``1 - sum(file_weights)``.
+    kept : tuple of str
+        Held names with no return series in the data, kept at their weight (no growth).
+    """
+
+    date: date
+    start: date
+    end: date
+    periods: int
+    file_weights: np.ndarray
+    file_cash: float
+    kept: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True, eq=False)
 class CurrentHoldings:
     """The weights held now, as the holdings file gives them.
 
@@ -37,12 +69,16 @@ class CurrentHoldings:
     weights : ndarray of shape (n_names,)
         Decimal weights (0.05 = 5 %), aligned with ``names``.
     cash : float or None
-        The ``(cash)`` row's weight, None when the file has no such row.
+        The ``(cash)`` row's weight, None when the file has no such row; once drifted,
+        ``1 - sum(weights)``.
+    drift : HoldingsDrift or None
+        Set when ``weights`` are the file's weights drifted to the as-of date.
     """
 
     names: tuple[str, ...]
     weights: np.ndarray
     cash: float | None
+    drift: HoldingsDrift | None = None
 
 
 def read_holdings(

@@ -26,7 +26,7 @@ _LATER_KEYS = ("beta",)
 #: Every bound on beta to the benchmark lies in [-BETA_LIMIT, BETA_LIMIT].
 BETA_LIMIT = 10.0
 _GROUP_KEYS = ("file", "name_column", "group_column", "each", "bounds")
-_HOLDINGS_KEYS = ("file", "turnover_penalty", "max_turnover")
+_HOLDINGS_KEYS = ("file", "date", "turnover_penalty", "max_turnover")
 _SIDES = ("min", "max")
 _IN_RANGE = f"a number from {-BOUND_LIMIT:g} to {BOUND_LIMIT:g}, in decimal units (0.05 = 5 %)"
 
@@ -81,6 +81,7 @@ def parse_holdings(r: Reader, value: Any) -> HoldingsSpec | None:
             else r.number("holdings.turnover_penalty", penalty, 0.0)
         ),
         max_turnover=None if cap is None else r.number("holdings.max_turnover", cap, 0.0, 1.0),
+        date=r.day("holdings.date", s.get("date")),
     )
 
 

@@ -147,6 +147,7 @@ class HoldingsSpec:
     file: Path  # absolute
     turnover_penalty: float = 0.0
     max_turnover: float | None = None  # one-way: sum(|w - w_current|) / 2
+    date: date | None = None  # the file's weights are as of this date; None = use them as given
 
 
 @dataclass(frozen=True)

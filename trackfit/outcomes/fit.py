@@ -7,6 +7,7 @@ from datetime import date
 
 from trackfit.core.limits import NO_LIMITS, Limits
 from trackfit.data.dataset import TrackingData
+from trackfit.data.holdings import CurrentHoldings
 from trackfit.evaluate.holdout import HoldoutStudy
 from trackfit.evaluate.trades import TradeList
 from trackfit.job import Job
@@ -34,6 +35,9 @@ class FitOutcome:
     notes : tuple of str
         Statements about method the report must carry (for example how a unique solution is
         picked when there are more constituents than rows).
+    holdings : CurrentHoldings or None
+        The current holdings the trades start from (drifted to ``as_of`` when dated), when
+        current holdings were given.
     """
 
     job: Job
@@ -45,3 +49,4 @@ class FitOutcome:
     limits: Limits = NO_LIMITS
     trades: TradeList | None = None
     notes: tuple[str, ...] = ()
+    holdings: CurrentHoldings | None = None

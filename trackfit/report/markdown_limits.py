@@ -9,6 +9,7 @@ import numpy as np
 
 from trackfit.core.limits import Limits, LimitStatus
 from trackfit.core.results import SupportSearch
+from trackfit.data.holdings import CurrentHoldings
 from trackfit.evaluate.holdout import ModelOutcome
 from trackfit.evaluate.metrics import TrackingMetrics
 from trackfit.evaluate.trades import TradeList
@@ -56,7 +57,7 @@ def mandate_section(outcome: FitOutcome) -> list[str]:
     if limits.max_names is not None or model.final_fit.search is not None:
         lines += ["", "### Name cap", ""] + _name_cap(outcome, model)
     if outcome.trades is not None:
-        lines += ["", "### Trades", ""] + _trades(outcome.trades)
+        lines += ["", "### Trades", ""] + _trades(outcome.trades, outcome.holdings)
     return lines
 
 
@@ -317,14 +318,18 @@ def _search(outcome: FitOutcome, name: str, search: SupportSearch) -> list[str]:
 # -- trades ---------------------------------------------------------------------------------
 
 
-def _trades(trade_list: TradeList) -> list[str]:
+def _trades(trade_list: TradeList, holdings: CurrentHoldings | None = None) -> list[str]:
     rows = trade_list.trades
+    drift = None if holdings is None else holdings.drift
+    source = "current holdings" if drift is None else "drifted holdings"
     lines = [
-        f"One-way turnover from the current holdings to the held weights: "
+        f"One-way turnover from the {source} to the held weights: "
         f"{percent(trade_list.one_way_turnover, 4)} (half the sum of the absolute changes, "
         "cash excluded; holdings that are not constituents are sold).",
         "",
     ]
+    if holdings is not None:
+        lines += [_drift_words(holdings), ""]
     counts = trade_counts(trade_list)
     lines += table(
         ["Action", "Names"],
@@ -342,12 +347,51 @@ def _trades(trade_list: TradeList) -> list[str]:
             f"percent); the other {len(rows) - TRADE_ROWS} are listed in summary.json:"
         )
     lines.append("")
+    if drift is None:
+        lines += table(
+            ["Name", "Current", "Target", "Change", "Action"],
+            [
+                [t.name, percent(t.current, 4), percent(t.target, 4), percent(t.change, 4)]
+                + [t.action]
+                for t in rows[:TRADE_ROWS]
+            ],
+            [False, True, True, True, False],
+        )
+        return lines
+    in_file = dict(zip(holdings.names, drift.file_weights.tolist()))
     lines += table(
-        ["Name", "Current", "Target", "Change", "Action"],
+        ["Name", "In file", "Drifted", "Target", "Change", "Action"],
         [
-            [t.name, percent(t.current, 4), percent(t.target, 4), percent(t.change, 4), t.action]
+            [t.name, percent(in_file.get(t.name, 0.0), 4), percent(t.current, 4)]
+            + [percent(t.target, 4), percent(t.change, 4), t.action]
             for t in rows[:TRADE_ROWS]
         ],
-        [False, True, True, True, False],
+        [False, True, True, True, True, False],
     )
     return lines
+
+
+def _drift_words(holdings: CurrentHoldings) -> str:
+    drift = holdings.drift
+    if drift is None:
+        return (
+            "The holdings file's weights are used as given: they were not drifted, because no "
+            "'holdings.date' was given."
+        )
+    start = (
+        ""
+        if drift.start == drift.date
+        else f" ({drift.date} is not a data date: the drift starts from the last data date "
+        f"before it, {drift.start})"
+    )
+    text = (
+        f"The holdings file's weights are as of {drift.date}; they were drifted to the as-of "
+        f"date {drift.end} as bought and held over the {drift.periods} return date(s) after "
+        f"{drift.start}{start}: each name by its total return (before the risk-free rate is "
+        "taken off), cash by the risk-free rate (not at all without one). Cash "
+        f"{percent(drift.file_cash, 4)} in the file, {percent(holdings.cash, 4)} drifted."
+    )
+    if drift.kept:
+        shown = ", ".join(inline(n) for n in drift.kept)
+        text += f" Held names with no return series were kept at their value: {shown}."
+    return text

@@ -69,7 +69,7 @@ def render_summary_json(outcome: FitOutcome) -> str:
         "held": outcome.held,
         "limits": limits_summary(outcome),
         "models": [_model(m, data) for m in study.models],
-        "trades": trades_summary(outcome.trades),
+        "trades": trades_summary(outcome.trades, outcome.holdings),
         "notes": list(outcome.notes),
         "warnings": list(outcome.warnings),
     }

@@ -12,6 +12,7 @@ from typing import Any
 
 from trackfit.core.limits import Limits, LimitStatus
 from trackfit.core.results import SupportSearch
+from trackfit.data.holdings import CurrentHoldings
 from trackfit.evaluate.trades import TradeList
 from trackfit.job import Bounds, HoldingsSpec, LimitsSpec
 from trackfit.outcomes.fit import FitOutcome
@@ -58,11 +59,14 @@ def job_holdings(spec: HoldingsSpec | None, folder: Path) -> dict[str, Any] | No
     """The current-holdings part of the job, or None when no holdings were given."""
     if spec is None:
         return None
-    return {
+    out: dict[str, Any] = {
         "file": relative_path(spec.file, folder),
         "turnover_penalty": spec.turnover_penalty,
         "max_turnover": spec.max_turnover,
     }
+    if spec.date is not None:  # only when set, so summaries without it keep their bytes
+        out["date"] = spec.date.isoformat()
+    return out
 
 
 def limits_summary(outcome: FitOutcome) -> dict[str, Any]:
@@ -136,11 +140,17 @@ def _search(search: SupportSearch, names: tuple[str, ...]) -> dict[str, Any]:
     }
 
 
-def trades_summary(trade_list: TradeList | None) -> dict[str, Any] | None:
-    """Turnover, counts by action and every trade, largest change first; None without holdings."""
+def trades_summary(
+    trade_list: TradeList | None, holdings: CurrentHoldings | None = None
+) -> dict[str, Any] | None:
+    """Turnover, counts by action and every trade, largest change first; None without holdings.
+
+    With ``holdings`` also ``holdings``: the file's weights and the drifted ones the trades
+    start from (the same when no ``holdings.date`` was given).
+    """
     if trade_list is None:
         return None
-    return {
+    out = {
         "one_way_turnover": trade_list.one_way_turnover,
         "counts": trade_counts(trade_list),
         "trades": [
@@ -153,4 +163,31 @@ def trades_summary(trade_list: TradeList | None) -> dict[str, Any] | None:
             }
             for t in trade_list.trades
         ],
+    }
+    if holdings is not None:
+        out["holdings"] = _holdings(holdings)
+    return out
+
+
+def _holdings(holdings: CurrentHoldings) -> dict[str, Any]:
+    drift = holdings.drift
+    now = dict(zip(holdings.names, holdings.weights.tolist()))
+    if drift is None:
+        return {
+            "date": None,
+            "drifted": False,
+            "file_weights": now,
+            "drifted_weights": now,
+        }
+    return {
+        "date": drift.date.isoformat(),
+        "drifted": True,
+        "from_date": drift.start.isoformat(),
+        "to_date": drift.end.isoformat(),
+        "periods": drift.periods,
+        "file_weights": dict(zip(holdings.names, drift.file_weights.tolist())),
+        "drifted_weights": now,
+        "file_cash": drift.file_cash,
+        "drifted_cash": holdings.cash,
+        "kept_at_weight": list(drift.kept),
     }
