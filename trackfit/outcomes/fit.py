@@ -6,6 +6,7 @@ from dataclasses import dataclass
 from datetime import date
 
 from trackfit.core.limits import NO_LIMITS, Limits
+from trackfit.core.risk import ExAnteRisk
 from trackfit.data.dataset import TrackingData
 from trackfit.evaluate.holdout import HoldoutStudy
 from trackfit.evaluate.trades import TradeList
@@ -34,6 +35,9 @@ class FitOutcome:
     notes : tuple of str
         Statements about method the report must carry (for example how a unique solution is
         picked when there are more constituents than rows).
+    risk : ExAnteRisk or None
+        Ex-ante tracking error of the held weights over the whole window, by name and (when
+        the job names a groups file) by group; None when it was not computed.
     """
 
     job: Job
@@ -45,3 +49,4 @@ class FitOutcome:
     limits: Limits = NO_LIMITS
     trades: TradeList | None = None
     notes: tuple[str, ...] = ()
+    risk: ExAnteRisk | None = None
