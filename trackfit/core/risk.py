@@ -26,6 +26,8 @@ class ShrunkCovariance:
     Attributes
     ----------
     covariance : ndarray of shape (n_series, n_series)
+    sample : ndarray of shape (n_series, n_series)
+        The sample covariance of the centered rows, divided by n, before shrinking.
     shrinkage : float
         Weight on the target ``mu * I``, in [0, 1].
     mu : float
@@ -33,6 +35,7 @@ class ShrunkCovariance:
     """
 
     covariance: np.ndarray
+    sample: np.ndarray
     shrinkage: float
     mu: float
 
@@ -65,7 +68,7 @@ def ledoit_wolf(rows: np.ndarray) -> ShrunkCovariance:
     sample = (x.T @ x) / n
     mu = float(np.trace(sample)) / p
     if p == 1:  # the target is the sample variance itself: nothing to shrink
-        return ShrunkCovariance(covariance=sample, shrinkage=0.0, mu=mu)
+        return ShrunkCovariance(covariance=sample.copy(), sample=sample, shrinkage=0.0, mu=mu)
     # Frobenius norms are divided by p as in the paper; the common 1/p cancels in the ratio.
     norm2 = float(np.sum(sample * sample))
     d2 = (norm2 - p * mu * mu) / p  # ||S - mu I||^2
@@ -76,7 +79,7 @@ def ledoit_wolf(rows: np.ndarray) -> ShrunkCovariance:
     shrinkage = 0.0 if b2 == 0.0 else b2 / d2
     covariance = (1.0 - shrinkage) * sample
     covariance[np.diag_indices(p)] += shrinkage * mu
-    return ShrunkCovariance(covariance=covariance, shrinkage=float(shrinkage), mu=mu)
+    return ShrunkCovariance(covariance=covariance, sample=sample, shrinkage=float(shrinkage), mu=mu)
 
 
 @dataclass(frozen=True)
@@ -102,6 +105,10 @@ class ExAnteRisk:
     group_index : ndarray of int, shape (n_assets,)
         Position in ``groups`` of each name's group; -1 for every name when no groups were
         given.
+    sample_tracking_error : float
+        The same from the unshrunk sample covariance: the standard deviation (divisor n) of
+        the window's active returns, annualized. The target ``mu * I`` adds
+        ``shrinkage * mu * a'a`` to the variance, which for a close tracker can be most of it.
     shrinkage : float
         Ledoit-Wolf intensity of the covariance used.
     n_periods : int
@@ -115,6 +122,7 @@ class ExAnteRisk:
     groups: tuple[str | None, ...]
     by_group: np.ndarray
     group_index: np.ndarray
+    sample_tracking_error: float
     shrinkage: float
     n_periods: int
     periods_per_year: int
@@ -190,6 +198,7 @@ def ex_ante_risk(
         groups=labels,
         by_group=sums,
         group_index=index,
+        sample_tracking_error=float(np.sqrt(max(float(a @ shrunk.sample @ a), 0.0)) * scale),
         shrinkage=shrunk.shrinkage,
         n_periods=int(X.shape[0]),
         periods_per_year=int(periods_per_year),

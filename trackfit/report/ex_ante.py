@@ -109,11 +109,18 @@ def ex_ante_section(outcome: FitOutcome) -> list[str]:
         f"From the covariance of the constituent and benchmark {returns} over the whole window "
         f"({first} to {last}, {risk.n_periods} rows), Ledoit-Wolf shrunk towards a multiple "
         f"of the identity (shrinkage {fixed(risk.shrinkage, '.4f')}), annualized with "
-        f"{risk.periods_per_year} periods a year. The active weights are the held weights and "
-        "-100% in the benchmark; cash carries no term. Each contribution is the name's active "
-        "weight times its covariance with the active return, over the tracking error (Euler "
-        "allocation): they add up to the total, and a negative one lowers it. It assumes the "
-        "window's covariance holds ahead; the realized figures are in the Tracking section."
+        f"{risk.periods_per_year} periods a year. The unshrunk sample covariance of the same "
+        f"rows gives {percent(risk.sample_tracking_error)}; the difference is the shrinkage, "
+        "which treats part of every co-movement with the benchmark as noise and so adds to "
+        "the expected tracking error of a close tracker."
+    )
+    lines.append("")
+    lines.append(
+        "The active weights are the held weights and -100% in the benchmark; cash carries no "
+        "term. Each contribution is the active weight times the covariance with the active "
+        "return, over the tracking error (Euler allocation): they add up to the total, and a "
+        "negative one lowers it. It assumes the window's covariance holds ahead; the realized "
+        "figures are in the Tracking section."
     )
     lines += ["", "### By name", ""]
     lines += _table("Name", name_rows(outcome), risk.tracking_error)
@@ -146,6 +153,7 @@ def ex_ante_json(outcome: FitOutcome) -> dict[str, Any]:
             "periods_per_year": risk.periods_per_year,
             "rows": risk.n_periods,
             "shrinkage": risk.shrinkage,
+            "sample_tracking_error": risk.sample_tracking_error,
             "benchmark": risk.benchmark,
             "by_name": {names[i]: float(risk.by_name[i]) for i in np.flatnonzero(weights)},
             "by_group": by_group,
