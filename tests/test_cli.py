@@ -27,7 +27,13 @@ def demo_runs(tmp_path_factory):
     return outs, results
 
 
-FIGURES = ("top_weights.png", "cv_lasso.png", "cv_elastic_net.png", "cv_ridge.png")
+FIGURES = (
+    "top_weights.png",
+    "ex_ante_contributions.png",
+    "cv_lasso.png",
+    "cv_elastic_net.png",
+    "cv_ridge.png",
+)
 
 
 def test_fit_on_the_demo_writes_its_files_and_lists_them_on_stdout(demo_runs):

@@ -6,6 +6,7 @@ from dataclasses import dataclass
 from datetime import date
 
 from trackfit.core.limits import NO_LIMITS, Limits
+from trackfit.core.risk import ExAnteRisk
 from trackfit.data.dataset import TrackingData
 from trackfit.data.holdings import CurrentHoldings
 from trackfit.evaluate.holdout import HoldoutStudy
@@ -38,6 +39,9 @@ class FitOutcome:
     holdings : CurrentHoldings or None
         The current holdings the trades start from (drifted to ``as_of`` when dated), when
         current holdings were given.
+    risk : ExAnteRisk or None
+        Ex-ante tracking error of the held weights over the whole window, by name and (when
+        the job names a groups file) by group; None when it was not computed.
     """
 
     job: Job
@@ -50,3 +54,4 @@ class FitOutcome:
     trades: TradeList | None = None
     notes: tuple[str, ...] = ()
     holdings: CurrentHoldings | None = None
+    risk: ExAnteRisk | None = None

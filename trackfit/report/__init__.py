@@ -11,7 +11,7 @@ from functools import partial
 from pathlib import Path
 
 from trackfit.outcomes.fit import FitOutcome
-from trackfit.report import plots
+from trackfit.report import ex_ante, plots
 from trackfit.report.files import atomic_write_bytes, atomic_write_text
 from trackfit.report.markdown import render_markdown
 from trackfit.report.summary_json import render_summary_json
@@ -34,7 +34,8 @@ TOP_WEIGHTS_FILE = "top_weights.png"
 def figure_files(outcome: FitOutcome) -> list[tuple[str, str]]:
     """The fit's figures, in the order they are written and listed: ``(caption, file name)``.
 
-    ``top_weights.png``, then ``cv_<model>.png`` for each cross-validated model in study order
+    ``top_weights.png``, ``ex_ante_contributions.png`` when the outcome carries an ex-ante
+    tracking error, then ``cv_<model>.png`` for each cross-validated model in study order
     (characters other than letters, digits, ``_`` and ``-`` in the model name become ``_``).
     """
     return [(caption, name) for caption, name, _ in _figures(outcome)]
@@ -91,6 +92,14 @@ def _figures(outcome: FitOutcome) -> list[tuple[str, str, Callable[[], bytes]]]:
             partial(plots.top_weights_png, outcome),
         )
     ]
+    if outcome.risk is not None:
+        found.append(
+            (
+                f"Contributions to the expected tracking error, {outcome.held}",
+                ex_ante.FIGURE_FILE,
+                partial(ex_ante.ex_ante_png, outcome),
+            )
+        )
     for model in outcome.study.models:
         if model.cv is not None:
             stem = re.sub(r"[^A-Za-z0-9_-]", "_", model.name)

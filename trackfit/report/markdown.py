@@ -14,6 +14,7 @@ from trackfit.evaluate.metrics import TrackingMetrics
 from trackfit.outcomes.fit import FitOutcome
 from trackfit.report.caution import CAUTION
 from trackfit.report.data_quality import quality_section
+from trackfit.report.ex_ante import ex_ante_section
 from trackfit.report.held import held_model, held_weights
 from trackfit.report.markdown_limits import HEADING as LIMITS_HEADING
 from trackfit.report.markdown_limits import mandate_section
@@ -90,13 +91,15 @@ def render_markdown(
         _held,
         mandate_section,
         _tracking,
+        ex_ante_section,
         _penalty_choice,
         _accuracy,
         _warnings,
     )
     for section in sections:
-        lines += section(outcome)
-        lines.append("")
+        part = section(outcome)
+        if part:  # the ex-ante section is absent when nothing was computed for it
+            lines += part + [""]
     lines += figures_section(tuple(figures or ()), figures_skipped)
     return "\n".join(lines).rstrip("\n") + "\n"
 

@@ -18,6 +18,7 @@ from trackfit.job import Job
 from trackfit.outcomes.fit import FitOutcome
 from trackfit.report.caution import CAUTION
 from trackfit.report.data_quality import quality_json
+from trackfit.report.ex_ante import ex_ante_json
 from trackfit.report.held import held_weights
 from trackfit.report.numbers import iso_date, json_number, row_dates
 from trackfit.report.paths import relative_path
@@ -69,6 +70,7 @@ def render_summary_json(outcome: FitOutcome) -> str:
         "held": outcome.held,
         "limits": limits_summary(outcome),
         "models": [_model(m, data) for m in study.models],
+        **ex_ante_json(outcome),
         "trades": trades_summary(outcome.trades, outcome.holdings),
         "notes": list(outcome.notes),
         "warnings": list(outcome.warnings),
