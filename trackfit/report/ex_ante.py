@@ -17,7 +17,7 @@ from trackfit.report.held import held_weights
 from trackfit.report.numbers import fixed, percent, row_dates
 
 # The fit figures' own drawing helpers, so this one looks like its neighbours.
-from trackfit.report.plots import _NEGATIVE, _PORTFOLIO, _label, _plain, _render
+from trackfit.report.plots import _label, _plain, _render, labelled_bars
 from trackfit.report.tables import inline, table
 
 HEADING = "## Expected tracking error of the held weights"
@@ -176,22 +176,7 @@ def ex_ante_png(outcome: FitOutcome) -> bytes:
         ax = fig.add_subplot()
         ax.grid(axis="y", visible=False)
         values = np.array([r.contribution for r in rows]) * 100.0
-        at = np.arange(len(rows))[::-1]
-        colors = [_PORTFOLIO if v >= 0 else _NEGATIVE for v in values]
-        ax.barh(at, values, color=colors, height=0.7)
-        ax.set_yticks(at, [_label(r.label) for r in rows])
-        ax.axvline(0.0, color="black", linewidth=0.8)
-        for row, value in zip(at, values):
-            ax.annotate(
-                f"{value:.2f}%",
-                (value, row),
-                xytext=(3 if value >= 0 else -3, 0),
-                textcoords="offset points",
-                va="center",
-                fontsize=8,
-                ha="left" if value >= 0 else "right",
-            )
-        ax.margins(x=0.15)
+        labelled_bars(ax, values, [_label(r.label) for r in rows])
         ax.set_xlabel("Contribution to expected tracking error (% a year)")
         ax.set_title(
             f"Expected tracking error {risk.tracking_error * 100.0:.2f}% a year, "

@@ -176,23 +176,7 @@ def top_weights_png(outcome: FitOutcome) -> bytes:
         if not shown:
             _empty(ax, "No names held." if held_count == 0 else "No weights asked for.")
         else:
-            values = weights[shown] * 100.0
-            rows = np.arange(len(shown))[::-1]  # largest at the top
-            colors = [_PORTFOLIO if v >= 0 else _NEGATIVE for v in values]
-            ax.barh(rows, values, color=colors, height=0.7)
-            ax.set_yticks(rows, [_label(names[i]) for i in shown])
-            ax.axvline(0.0, color="black", linewidth=0.8)
-            for row, value in zip(rows, values):
-                ax.annotate(
-                    f"{value:.2f}%",
-                    (value, row),
-                    xytext=(3 if value >= 0 else -3, 0),
-                    textcoords="offset points",
-                    va="center",
-                    fontsize=8,
-                    ha="left" if value >= 0 else "right",
-                )
-            ax.margins(x=0.15)
+            labelled_bars(ax, weights[shown] * 100.0, [_label(names[i]) for i in shown])
         ax.set_xlabel("Weight (% of portfolio value)")
         ax.set_title(
             f"Largest weights held, {_plain(model.name)}, as of {outcome.as_of.isoformat()} "
@@ -201,6 +185,27 @@ def top_weights_png(outcome: FitOutcome) -> bytes:
 
     height = min(max(2.5, 1.3 + 0.3 * len(shown)), 16.0)
     return _render(draw, height=height)
+
+
+def labelled_bars(ax: Any, values: np.ndarray, labels: list[str]) -> None:
+    """Horizontal bars in percent, the first at the top, each labelled with its value;
+    negative ones in their own colour, with a line at zero."""
+    rows = np.arange(len(values))[::-1]  # the first at the top
+    colors = [_PORTFOLIO if v >= 0 else _NEGATIVE for v in values]
+    ax.barh(rows, values, color=colors, height=0.7)
+    ax.set_yticks(rows, labels)
+    ax.axvline(0.0, color="black", linewidth=0.8)
+    for row, value in zip(rows, values):
+        ax.annotate(
+            f"{value:.2f}%",
+            (value, row),
+            xytext=(3 if value >= 0 else -3, 0),
+            textcoords="offset points",
+            va="center",
+            fontsize=8,
+            ha="left" if value >= 0 else "right",
+        )
+    ax.margins(x=0.15)
 
 
 # --- backtest figures ------------------------------------------------------------------------
