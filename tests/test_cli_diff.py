@@ -30,16 +30,17 @@ def test_text_lists_changes_largest_first(files):
     result = _run("diff", old, new)
     assert result.exit_code == 0, result.stderr
     lines = result.stdout.splitlines()
-    # Hand count: d +0.25 (added), c -0.20 (dropped), a -0.10; b unchanged.
+    # Hand count: d +0.25 (new), c -0.20 (dropped), a -0.10 (sell); b holds. The words are the
+    # report's trades table's: new, dropped, buy, sell, hold.
     # One-way turnover (0.25 + 0.20 + 0.10) / 2 = 0.275.
-    assert lines[2] == "added 1, dropped 1, changed 1, unchanged 1; one-way turnover 0.275000"
+    assert lines[2] == "new 1, dropped 1, buy 0, sell 1, hold 1; one-way turnover 0.275000"
     assert lines[1].endswith("(3 names held, cash 0.050000)")
     table = [line.split() for line in lines[4:]]
     assert table == [
         ["name", "old", "new", "change", "action"],
-        ["d", "0.000000", "0.250000", "+0.250000", "added"],
+        ["d", "0.000000", "0.250000", "+0.250000", "new"],
         ["c", "0.200000", "0.000000", "-0.200000", "dropped"],
-        ["a", "0.500000", "0.400000", "-0.100000", "decreased"],
+        ["a", "0.500000", "0.400000", "-0.100000", "sell"],
     ]
 
 
@@ -51,9 +52,9 @@ def test_csv_bytes(files, tmp_path):
     assert result.stdout == f"{out}\n"
     assert out.read_bytes() == (
         b"name,old,new,change,action\n"
-        b"d,0.0000000000,0.2500000000,0.2500000000,added\n"
+        b"d,0.0000000000,0.2500000000,0.2500000000,new\n"
         b"c,0.2000000000,0.0000000000,-0.2000000000,dropped\n"
-        b"a,0.5000000000,0.4000000000,-0.1000000000,decreased\n"
+        b"a,0.5000000000,0.4000000000,-0.1000000000,sell\n"
     )
 
 
@@ -63,7 +64,7 @@ def test_json(files):
     assert result.exit_code == 0, result.stderr
     tree = json.loads(result.stdout)
     assert tree["one_way_turnover"] == 0.275
-    assert tree["counts"] == {"added": 1, "dropped": 1, "changed": 1, "unchanged": 1}
+    assert tree["counts"] == {"new": 1, "dropped": 1, "buy": 0, "sell": 1, "hold": 1}
     assert tree["cash"] == {"old": 0.0, "new": 0.05, "change": 0.05}
     assert [c["name"] for c in tree["changes"]] == ["d", "c", "a"]
     assert tree["changes"][2] == {
@@ -71,7 +72,7 @@ def test_json(files):
         "old": 0.5,
         "new": 0.4,
         "change": -0.1,
-        "action": "decreased",
+        "action": "sell",
     }
 
 

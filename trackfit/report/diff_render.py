@@ -14,15 +14,14 @@ from trackfit.report.numbers import fixed, json_number
 
 #: Weights and changes in CSV and JSON: as many decimals as weights.csv.
 DIFF_FORMAT = ".10f"
-_ACTIONS = {"new": "added", "dropped": "dropped", "buy": "increased", "sell": "decreased"}
+# One vocabulary for trades in every file trackfit writes: the report's trades table and this
+# diff say buy, sell, new, dropped and hold alike.
+_ACTIONS = {"new": "new", "dropped": "dropped", "buy": "buy", "sell": "sell"}
 
 
 def _counts(d: WeightsDiff) -> dict[str, int]:
     return {
-        "added": len(d.with_action("new")),
-        "dropped": len(d.with_action("dropped")),
-        "changed": len(d.with_action("buy", "sell")),
-        "unchanged": len(d.with_action("hold")),
+        action: len(d.with_action(action)) for action in ("new", "dropped", "buy", "sell", "hold")
     }
 
 
@@ -36,8 +35,8 @@ def render_diff_text(d: WeightsDiff) -> str:
     lines = [
         f"old: {d.old} ({d.old_names} names held, {_cash(d.old_cash)})",
         f"new: {d.new} ({d.new_names} names held, {_cash(d.new_cash)})",
-        f"added {c['added']}, dropped {c['dropped']}, changed {c['changed']}, unchanged "
-        f"{c['unchanged']}; one-way turnover {fixed(d.trades.one_way_turnover, '.6f')}",
+        ", ".join(f"{action} {n}" for action, n in c.items())
+        + f"; one-way turnover {fixed(d.trades.one_way_turnover, '.6f')}",
     ]
     moves = d.moves
     if not moves:

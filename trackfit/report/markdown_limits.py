@@ -39,7 +39,7 @@ _ACTION_LABELS = {
     "sell": "Sells",
     "new": "New names",
     "dropped": "Dropped names",
-    "hold": "Unchanged",
+    "hold": "Holds (no change)",
 }
 
 
@@ -337,14 +337,19 @@ def _trades(trade_list: TradeList, holdings: CurrentHoldings | None = None) -> l
         [False, True],
     )
     lines.append("")
+    held = sum(1 for t in rows if t.action == "hold")
+    rows = tuple(t for t in rows if t.action != "hold")  # a hold is no trade
     if not rows:
+        if held:
+            return lines + [f"There are no trades: all {held} names hold their weights."]
         return lines + ["There are no trades: nothing is held now and nothing is to be held."]
+    kept = f"; the {held} names that hold are not listed" if held else ""
     if len(rows) <= TRADE_ROWS:
-        lines.append(f"All {len(rows)} trades, largest change first (weights in percent):")
+        lines.append(f"All {len(rows)} trades, largest change first (weights in percent){kept}:")
     else:
         lines.append(
             f"The {TRADE_ROWS} largest of {len(rows)} trades, largest change first (weights in "
-            f"percent); the other {len(rows) - TRADE_ROWS} are listed in summary.json:"
+            f"percent); the other {len(rows) - TRADE_ROWS} are listed in summary.json{kept}:"
         )
     lines.append("")
     if drift is None:
