@@ -15,7 +15,6 @@ from trackfit.commands.fit_plan import FitPlan, plan_fit
 from trackfit.commands.output import Notify, Written, output_folder, with_lock
 from trackfit.commands.prepare import Prepared, day, held_model, prepare
 from trackfit.core.risk import ExAnteRisk, ex_ante_risk
-from trackfit.data.groups import read_groups
 from trackfit.evaluate.holdout import run_holdout
 from trackfit.evaluate.recipe import fit_notes
 from trackfit.evaluate.trades import trades
@@ -74,30 +73,17 @@ def fit_plan(plan: FitPlan, *, progress: Progress | None = None) -> FitOutcome:
 def held_risk(prepared: Prepared, weights) -> ExAnteRisk:
     """Ex-ante tracking error of ``weights`` (the final fit's) over the whole window.
 
-    Groups come from the job's groups file when it names one, whether or not group limits
-    are set; names the file does not list are in no group.
+    Groups come from the job's groups file when it names one (read once, by the preparation
+    step).
     """
-    job, data = prepared.job, prepared.data
-    groups = None
-    spec = job.limits.groups
-    if spec is not None:
-        mapping = read_groups(spec, label=_label(spec.file, job))
-        groups = [mapping.get(name) for name in data.names]
+    data = prepared.data
     return ex_ante_risk(
         data.constituents,
         data.benchmark,
         weights,
         periods_per_year=data.periods_per_year,
-        groups=groups,
+        groups=prepared.groups,
     )
-
-
-def _label(path: Path, job: Job) -> str:
-    # As the limits name the file: relative to the job's folder when it lies inside it.
-    try:
-        return path.relative_to(job.path.parent).as_posix()
-    except ValueError:
-        return str(path)
 
 
 def fit_job(

@@ -10,7 +10,7 @@ a person must look at) or a note (a routine fact the report carries; it changes 
 from __future__ import annotations
 
 import difflib
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import replace
 from datetime import date
 from pathlib import Path
@@ -46,6 +46,7 @@ def build_limits(
     aligned: AlignedSeries | None = None,
     as_of: date | None = None,
     periods_per_year: int | None = None,
+    groups: Mapping[str, str] | None = None,
 ) -> tuple[Limits, CurrentHoldings | None, tuple[str, ...], tuple[str, ...]]:
     """The job's mandate limits over the constituents of one fit.
 
@@ -64,6 +65,9 @@ def build_limits(
     periods_per_year : int, optional
         The fit's periods per year, to turn an annual risk-free rate into a per-period one
         (required with ``aligned`` when the job has a risk-free series).
+    groups : mapping of str to str, optional
+        The job's groups file as :func:`read_job_groups` read it, so a caller that needs it too
+        reads it once; default: read here.
 
     Returns
     -------
@@ -101,7 +105,7 @@ def build_limits(
     # Linear limits in the order of the solver's rows: budget, groups, then the others.
     linear = (
         *_budget(job),
-        *(group_limit(g) for g in _group_limits(job, names, index, warnings, notes)),
+        *(group_limit(g) for g in _group_limits(job, names, index, warnings, notes, groups)),
         *_beta(job),
     )
     holdings, current, outside = _current(
@@ -161,14 +165,26 @@ def _beta(job: Job) -> tuple[LinearLimit, ...]:
     return () if beta is None else (beta_limit(beta.min, beta.max),)
 
 
+def read_job_groups(job: Job) -> dict[str, str] | None:
+    """The job's groups file as a mapping from name to group, or None when it names none."""
+    spec = job.limits.groups
+    return None if spec is None else read_groups(spec, label=_label(spec.file, job))
+
+
 def _group_limits(
-    job: Job, names: Sequence[str], index: dict[str, int], warnings: list[str], notes: list[str]
+    job: Job,
+    names: Sequence[str],
+    index: dict[str, int],
+    warnings: list[str],
+    notes: list[str],
+    mapping: Mapping[str, str] | None,
 ) -> tuple[GroupLimit, ...]:
     spec = job.limits.groups
     if spec is None:
         return ()
     label = _label(spec.file, job)
-    mapping = read_groups(spec, label=label)
+    if mapping is None:
+        mapping = read_job_groups(job)
     missing = [name for name in names if name not in mapping]
     if missing:
         raise DataError(

@@ -8,12 +8,13 @@ start here, so they see the same data, the same limits, the same warnings and th
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, replace
 from datetime import date
 
 import numpy as np
 
-from trackfit.commands.mandate import CurrentHoldings, build_limits
+from trackfit.commands.mandate import CurrentHoldings, build_limits, read_job_groups
 from trackfit.core.constrained import RIDGE_FOR_UNIQUENESS, check_feasible
 from trackfit.core.folds import ForwardChaining
 from trackfit.core.limits import Limits
@@ -46,6 +47,9 @@ class Prepared:
         From the data and the limits, in that order: what a person must look at.
     notes : tuple of str
         Routine facts from the limits the report carries; they change no exit code.
+    groups : tuple of str or None
+        Each constituent's group from the job's groups file, in ``data.names`` order; None
+        when the job names no groups file.
     """
 
     job: Job
@@ -55,6 +59,7 @@ class Prepared:
     holdings: CurrentHoldings | None
     warnings: tuple[str, ...]
     notes: tuple[str, ...] = ()
+    groups: tuple[str, ...] | None = None
 
     @property
     def as_of(self) -> date:
@@ -113,7 +118,8 @@ def prepare(
     aligned = align_series(job)
     window = job.window if backtest is None else _backtest_window(job, backtest, aligned, as_of)
     data = load_tracking_data(replace(job, window=window), as_of, aligned=aligned)
-    limits, holdings, limit_warnings, limit_notes = _limits(job, data, aligned, backtest)
+    mapping = read_job_groups(job)
+    limits, holdings, limit_warnings, limit_notes = _limits(job, data, aligned, backtest, mapping)
     try:
         check_feasible(limits, data.names)
     except SolverError as exc:  # conflicting limits are the job's to fix, not a fit failure
@@ -126,11 +132,17 @@ def prepare(
         holdings=holdings,
         warnings=(*data.warnings, *limit_warnings),
         notes=limit_notes,
+        # Every constituent has a group once the limits are built (a missing one is an error).
+        groups=None if mapping is None else tuple(mapping[name] for name in data.names),
     )
 
 
 def _limits(
-    job: Job, data: TrackingData, aligned: AlignedSeries, backtest: BacktestSpec | None
+    job: Job,
+    data: TrackingData,
+    aligned: AlignedSeries,
+    backtest: BacktestSpec | None,
+    groups: Mapping[str, str] | None,
 ) -> tuple[Limits, CurrentHoldings | None, tuple[str, ...], tuple[str, ...]]:
     """The mandate limits; dated holdings are drifted to the as-of date of a fit."""
     if backtest is None:
@@ -140,8 +152,9 @@ def _limits(
             aligned=aligned,
             as_of=day(data.dates[-1]),
             periods_per_year=data.periods_per_year,
+            groups=groups,
         )
-    limits, holdings, warnings, notes = build_limits(job, data.names)
+    limits, holdings, warnings, notes = build_limits(job, data.names, groups=groups)
     if job.holdings is not None and job.holdings.date is not None:
         warnings = (
             *warnings,
