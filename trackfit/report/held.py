@@ -86,3 +86,8 @@ def check_names(names: tuple[str, ...]) -> None:
             f"Constituent names appear more than once: {listed}; "
             "give every constituent column a distinct name across the constituent files."
         )
+
+
+def judged_label(model: ModelOutcome, held: str) -> str:
+    """A row of a table of judged fits (fitted before the holdout): the held model's says so."""
+    return f"{model.name} (held model, judged fit)" if model.name == held else model.name

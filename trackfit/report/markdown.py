@@ -15,7 +15,7 @@ from trackfit.outcomes.fit import FitOutcome
 from trackfit.report.caution import CAUTION
 from trackfit.report.data_quality import quality_section
 from trackfit.report.ex_ante import ex_ante_section
-from trackfit.report.held import held_model, held_weights
+from trackfit.report.held import held_model, held_weights, judged_label
 from trackfit.report.markdown_limits import HEADING as LIMITS_HEADING
 from trackfit.report.markdown_limits import mandate_section
 from trackfit.report.numbers import NOT_AVAILABLE, fixed, percent, row_dates
@@ -318,11 +318,6 @@ def _label(model: ModelOutcome, held: str) -> str:
     return f"{model.name} (held)" if model.name == held else model.name
 
 
-def _judged_label(model: ModelOutcome, held: str) -> str:
-    """A tracking table's row: every row there is a judged fit, the held model's too."""
-    return f"{model.name} (held model, judged fit)" if model.name == held else model.name
-
-
 def _held_row(outcome: FitOutcome) -> list[list[str]]:
     """The weights to hold, on the whole window: a row of their own under the judged fits."""
     model = next(m for m in outcome.study.models if m.name == outcome.held)
@@ -355,7 +350,7 @@ def _tracking(outcome: FitOutcome) -> list[str]:
         lines.append("")
     lines += table(
         _METRIC_HEADERS,
-        [_metric_row(_judged_label(m, outcome.held), m.in_sample) for m in study.models] + held_row,
+        [_metric_row(judged_label(m, outcome.held), m.in_sample) for m in study.models] + held_row,
         right,
     )
     lines += ["", "### Holdout", ""]
@@ -367,7 +362,7 @@ def _tracking(outcome: FitOutcome) -> list[str]:
     lines.append("")
     lines += table(
         _METRIC_HEADERS,
-        [_metric_row(_judged_label(m, outcome.held), m.holdout) for m in study.models],
+        [_metric_row(judged_label(m, outcome.held), m.holdout) for m in study.models],
         right,
     )
     return lines

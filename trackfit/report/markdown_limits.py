@@ -15,7 +15,7 @@ from trackfit.evaluate.metrics import TrackingMetrics
 from trackfit.evaluate.trades import TradeList
 from trackfit.job import Bounds
 from trackfit.outcomes.fit import FitOutcome
-from trackfit.report.held import held_model
+from trackfit.report.held import held_model, judged_label
 from trackfit.report.limit_labels import (
     COUNT_KINDS,
     PLAIN_KINDS,
@@ -260,7 +260,7 @@ def _name_cap(outcome: FitOutcome, model: ModelOutcome) -> list[str]:
         ],
         [
             [
-                f"{m.name} (held)" if m.name == outcome.held else m.name,
+                judged_label(m, outcome.held),
                 *_cost(m.in_sample, m.uncapped_in_sample),
                 *_cost(m.holdout, m.uncapped_holdout),
             ]
